@@ -69,3 +69,45 @@ export function mahalanobisSquared(l: Float64Array, n: number, nu: Float64Array,
   }
   return d2;
 }
+
+/**
+ * True when the symmetric matrix a is finite and positive semi-definite, tested by a Cholesky
+ * factorization into scratch (n×n) that accepts pivots down to −tol·max(diag) and treats
+ * pivots below tol·max(diag) as zero (a state known exactly has zero variance, legitimately).
+ */
+export function isPositiveSemidefinite(a: Float64Array, n: number, scratch: Float64Array, tol = 1e-10): boolean {
+  let scale = 0;
+  for (let i = 0; i < n; i++) {
+    const d = a[i * n + i]!;
+    if (!Number.isFinite(d)) return false;
+    if (d > scale) scale = d;
+  }
+  if (scale === 0) return allZeroOrFinite(a, n);
+  const eps = tol * scale;
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j <= i; j++) {
+      let s = a[i * n + j]!;
+      if (!Number.isFinite(s)) return false;
+      for (let k = 0; k < j; k++) s -= scratch[i * n + k]! * scratch[j * n + k]!;
+      if (i === j) {
+        if (s < -eps) return false;
+        scratch[i * n + i] = s > eps ? Math.sqrt(s) : 0;
+      } else {
+        const ljj = scratch[j * n + j]!;
+        if (ljj === 0) {
+          // A zero pivot forces the rest of its column to vanish for a PSD matrix.
+          if (Math.abs(s) > Math.sqrt(eps * scale)) return false;
+          scratch[i * n + j] = 0;
+        } else {
+          scratch[i * n + j] = s / ljj;
+        }
+      }
+    }
+  }
+  return true;
+}
+
+function allZeroOrFinite(a: Float64Array, n: number): boolean {
+  for (let i = 0; i < n * n; i++) if (a[i] !== 0) return false;
+  return true;
+}

@@ -1,0 +1,122 @@
+import type { MeasurementModel } from '../measurements/measurement-model.js';
+import { choleskyInto, choleskySolveInPlace, isPositiveSemidefinite, mahalanobisSquared } from '../linalg/cholesky.js';
+import { denseTimesSparseTransposedInto } from '../linalg/sparse-pattern.js';
+import { allFinite } from '../linalg/symmetric.js';
+import type { FilterWorkspace } from './filter-workspace.js';
+
+/** What an update did: applied, refused by the gate, or refused because the numbers broke. */
+export type UpdateVerdict = 'applied' | 'gate' | 'numerics';
+
+/**
+ * Measurement update of the KF (linear h) or EKF (h linearized at x̂(n|n-1)), in place on x, P.
+ *
+ * S = H P Hᵀ + R is factorized by Cholesky (no explicit inverse); d² = νᵀS⁻¹ν is gated against
+ * gateThreshold (Infinity disables the gate); P is updated in the Joseph form
+ * (I − KH) P (I − KH)ᵀ + K R Kᵀ, which stays symmetric PSD for any gain (Bucy & Joseph 1968;
+ * Simon, Optimal State Estimation, 2006, eq. 5.19; from memory), computed on the upper triangle
+ * and mirrored. Nothing is committed unless the result is finite and PSD. The NIS, ν and
+ * diag(S) of the attempt are left in the workspace for health statistics.
+ */
+export function kalmanUpdateInPlace(
+  model: MeasurementModel,
+  y: Float64Array,
+  R: Float64Array,
+  gateThreshold: number,
+  x: Float64Array,
+  P: Float64Array,
+  ws: FilterWorkspace,
+): UpdateVerdict {
+  const n = ws.n;
+  const m = model.dim;
+  ws.lastM = m;
+  ws.nis = Number.NaN;
+  const H = ws.H;
+  model.measureInto(x, ws.yhat);
+  model.jacobianInto(x, H);
+  model.innovationInto(y, ws.yhat, ws.nu);
+  const pat = ws.hPattern[m]!;
+  pat.scan(H);
+  // U = P Hᵀ (n×m); S = H U + R.
+  denseTimesSparseTransposedInto(P, n, H, pat, ws.U);
+  const S = ws.S;
+  for (let r = 0; r < m; r++) {
+    for (let c = r; c < m; c++) {
+      let s = 0;
+      for (let t = pat.rowStart[r]!; t < pat.rowStart[r + 1]!; t++) {
+        const k = pat.cols[t]!;
+        s += H[r * n + k]! * ws.U[k * m + c]!;
+      }
+      // Average R's two triangles so a slightly asymmetric reported covariance cannot skew S.
+      const v = s + 0.5 * (R[r * m + c]! + R[c * m + r]!);
+      S[r * m + c] = v;
+      S[c * m + r] = v;
+    }
+    ws.sDiagonal[r] = S[r * m + r]!;
+  }
+  if (!allFinite(ws.nu, m) || !choleskyInto(S, m, ws.L)) return 'numerics';
+  const d2 = mahalanobisSquared(ws.L, m, ws.nu, ws.mScratch);
+  ws.nis = d2;
+  if (!Number.isFinite(d2)) return 'numerics';
+  if (d2 > gateThreshold) return 'gate';
+  // Kᵀ = S⁻¹ Uᵀ by two triangular solves.
+  const Kt = ws.Kt;
+  const K = ws.K;
+  for (let r = 0; r < m; r++) for (let i = 0; i < n; i++) Kt[r * n + i] = ws.U[i * m + r]!;
+  choleskySolveInPlace(ws.L, m, Kt, n);
+  for (let i = 0; i < n; i++) for (let r = 0; r < m; r++) K[i * m + r] = Kt[r * n + i]!;
+  for (let i = 0; i < n; i++) {
+    let s = x[i]!;
+    for (let r = 0; r < m; r++) s += K[i * m + r]! * ws.nu[r]!;
+    ws.xCandidate[i] = s;
+  }
+  josephInto(P, H, pat.rowStart, pat.cols, R, m, ws);
+  if (!allFinite(ws.xCandidate, n) || !isPositiveSemidefinite(ws.nn2, n, ws.nn3)) return 'numerics';
+  x.set(ws.xCandidate);
+  P.set(ws.nn2);
+  return 'applied';
+}
+
+/** ws.nn2 = (I − KH) P (I − KH)ᵀ + K R Kᵀ, using ws.nn1 (I − KH) and ws.nn3 ((I − KH)P). */
+function josephInto(
+  P: Float64Array, H: Float64Array, rowStart: Int32Array, cols: Int32Array,
+  R: Float64Array, m: number, ws: FilterWorkspace,
+): void {
+  const n = ws.n;
+  const K = ws.K;
+  const IKH = ws.nn1;
+  IKH.fill(0);
+  for (let i = 0; i < n; i++) IKH[i * n + i] = 1;
+  for (let r = 0; r < m; r++) {
+    for (let t = rowStart[r]!; t < rowStart[r + 1]!; t++) {
+      const k = cols[t]!;
+      const h = H[r * n + k]!;
+      for (let i = 0; i < n; i++) IKH[i * n + k] = IKH[i * n + k]! - K[i * m + r]! * h;
+    }
+  }
+  const LP = ws.nn3;
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      let s = 0;
+      for (let k = 0; k < n; k++) s += IKH[i * n + k]! * P[k * n + j]!;
+      LP[i * n + j] = s;
+    }
+  }
+  const KR = ws.KR;
+  for (let i = 0; i < n; i++) {
+    for (let c = 0; c < m; c++) {
+      let s = 0;
+      for (let r = 0; r < m; r++) s += K[i * m + r]! * 0.5 * (R[r * m + c]! + R[c * m + r]!);
+      KR[i * m + c] = s;
+    }
+  }
+  const out = ws.nn2;
+  for (let i = 0; i < n; i++) {
+    for (let j = i; j < n; j++) {
+      let s = 0;
+      for (let k = 0; k < n; k++) s += LP[i * n + k]! * IKH[j * n + k]!;
+      for (let c = 0; c < m; c++) s += KR[i * m + c]! * K[j * m + c]!;
+      out[i * n + j] = s;
+      out[j * n + i] = s;
+    }
+  }
+}

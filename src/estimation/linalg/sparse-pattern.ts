@@ -1,0 +1,103 @@
+/**
+ * Row-wise nonzero patterns of small dense matrices, rebuilt from the values themselves.
+ *
+ * Transitions and sensor matrices are mostly zeros (a constant-velocity A has 6 nonzeros of 16,
+ * a position sensor's C has 2 of 8). Scanning the values each step costs rows·cols comparisons,
+ * far less than the multiplications it saves, and can never go stale when A changes with dt.
+ */
+export class RowPattern {
+  /** Column indices of the nonzeros, row after row. */
+  readonly cols: Int32Array;
+  /** rowStart[i]..rowStart[i+1] indexes `cols` for row i. */
+  readonly rowStart: Int32Array;
+
+  /** Allocates room for a rows×cols matrix (setup time). */
+  constructor(readonly rows: number, readonly colsCount: number) {
+    this.cols = new Int32Array(rows * colsCount);
+    this.rowStart = new Int32Array(rows + 1);
+  }
+
+  /** Rebuilds the pattern from the values of m (rows×colsCount, row-major). */
+  scan(m: Float64Array): void {
+    let k = 0;
+    const c = this.colsCount;
+    for (let i = 0; i < this.rows; i++) {
+      this.rowStart[i] = k;
+      const base = i * c;
+      for (let j = 0; j < c; j++) if (m[base + j] !== 0) this.cols[k++] = j;
+    }
+    this.rowStart[this.rows] = k;
+  }
+}
+
+/** out (r×n) = a (r×k, pattern pa) · b (k×n dense). */
+export function sparseTimesDenseInto(
+  a: Float64Array, pa: RowPattern, b: Float64Array, n: number, out: Float64Array,
+): void {
+  const k = pa.colsCount;
+  for (let i = 0; i < pa.rows; i++) {
+    const oi = i * n;
+    for (let j = 0; j < n; j++) out[oi + j] = 0;
+    for (let t = pa.rowStart[i]!; t < pa.rowStart[i + 1]!; t++) {
+      const col = pa.cols[t]!;
+      const v = a[i * k + col]!;
+      const bi = col * n;
+      for (let j = 0; j < n; j++) out[oi + j] = out[oi + j]! + v * b[bi + j]!;
+    }
+  }
+}
+
+/** out (n×r) = b (n×k dense) · aᵀ where a is (r×k, pattern pa). */
+export function denseTimesSparseTransposedInto(
+  b: Float64Array, n: number, a: Float64Array, pa: RowPattern, out: Float64Array,
+): void {
+  const k = pa.colsCount;
+  const r = pa.rows;
+  for (let i = 0; i < n; i++) {
+    const bi = i * k;
+    for (let j = 0; j < r; j++) {
+      let s = 0;
+      for (let t = pa.rowStart[j]!; t < pa.rowStart[j + 1]!; t++) {
+        const col = pa.cols[t]!;
+        s += b[bi + col]! * a[j * k + col]!;
+      }
+      out[i * r + j] = s;
+    }
+  }
+}
+
+/**
+ * out (n×n, symmetric) = b (n×k) · aᵀ for a (n×k, pattern pa), computing only the upper
+ * triangle and mirroring it. Valid when the product is known to be symmetric, as A·P·Aᵀ is.
+ */
+export function symmetricDenseTimesSparseTransposedInto(
+  b: Float64Array, a: Float64Array, pa: RowPattern, out: Float64Array,
+): void {
+  const n = pa.rows;
+  const k = pa.colsCount;
+  for (let i = 0; i < n; i++) {
+    const bi = i * k;
+    for (let j = i; j < n; j++) {
+      let s = 0;
+      for (let t = pa.rowStart[j]!; t < pa.rowStart[j + 1]!; t++) {
+        const col = pa.cols[t]!;
+        s += b[bi + col]! * a[j * k + col]!;
+      }
+      out[i * n + j] = s;
+      out[j * n + i] = s;
+    }
+  }
+}
+
+/** out (r) = a (r×k, pattern pa) · v (k). */
+export function sparseTimesVectorInto(a: Float64Array, pa: RowPattern, v: Float64Array, out: Float64Array): void {
+  const k = pa.colsCount;
+  for (let i = 0; i < pa.rows; i++) {
+    let s = 0;
+    for (let t = pa.rowStart[i]!; t < pa.rowStart[i + 1]!; t++) {
+      const col = pa.cols[t]!;
+      s += a[i * k + col]! * v[col]!;
+    }
+    out[i] = s;
+  }
+}
