@@ -45,6 +45,16 @@ function flattenFlat(name: string, data: ArrayLike<number>, rows: number, cols: 
   return Float64Array.from(data);
 }
 
+/** Size n of a square matrix input: the row count of nested rows, or √length (rounded) when flat. */
+export function inferSquareSize(data: MatrixInput): number {
+  return isNested(data) ? data.length : Math.round(Math.sqrt(data.length));
+}
+
+/** Column count of a matrix input with `rows` rows: nested row width, or ⌊length/rows⌋ (≥ 1) when flat. */
+export function inferColumns(data: MatrixInput, rows: number): number {
+  return isNested(data) ? data[0]!.length : Math.max(1, Math.floor(data.length / Math.max(1, rows)));
+}
+
 /**
  * Checks that `data` is a rows×cols matrix of finite numbers and returns it flat, row-major.
  * Throws ModelConfigError, e.g. `A must be 3×3, got 3×2` or `A[1][2] must be finite, got NaN`.
