@@ -41,6 +41,31 @@ function vanLoanBlock(F: Float64Array, W: Float64Array, n: number, dtS: number):
   return M;
 }
 
+function norm1(a: Float64Array, n: number): number {
+  let best = 0;
+  for (let j = 0; j < n; j++) {
+    let s = 0;
+    for (let i = 0; i < n; i++) s += Math.abs(a[i * n + j]!);
+    best = Math.max(best, s);
+  }
+  return best;
+}
+
+/**
+ * A power of two α ≥ 1 to divide G Qc Gᵀ by before forming M. C12 is linear in that block, so
+ * Qd(W) = α·Qd(W/α) exactly; but a large ‖W‖·T (a loud noise on slow dynamics) would otherwise
+ * set the number of squarings in expm and cost digits in both Φ and Qd. Scaling the block to the
+ * size of ‖F‖·T (at least 1) keeps the squarings down to what the dynamics need. A power of two
+ * keeps the scaling itself free of rounding.
+ */
+function balancingFactor(F: Float64Array, W: Float64Array, n: number, dtS: number): number {
+  const w = norm1(W, n) * dtS;
+  if (!(w > 0) || !Number.isFinite(w)) return 1;
+  const target = Math.max(norm1(F, n) * dtS, 1);
+  // Only ever scale down: a quiet block does not drive the squarings, and scaling it up could overflow.
+  return 2 ** Math.max(0, Math.round(Math.log2(w / target)));
+}
+
 /**
  * Φ = e^{F·dtS} and Qd for dx = F x dt + G dβ with E[dβ dβᵀ] = Qc dt. F is n×n, G n×noiseDim,
  * Qc noiseDim×noiseDim (spectral densities, e.g. m²/s³ for white acceleration), dtS in seconds.
@@ -65,7 +90,10 @@ export function discretizeVanLoan(
     return { A, Q };
   }
   const m = 2 * n;
-  const C = expm(vanLoanBlock(F, diffusionMatrix(G, Qc, n, noiseDim), n, dtS), m);
+  const W = diffusionMatrix(G, Qc, n, noiseDim);
+  const alpha = balancingFactor(F, W, n, dtS);
+  for (let k = 0; k < n * n; k++) W[k]! /= alpha;
+  const C = expm(vanLoanBlock(F, W, n, dtS), m);
   const c12 = new Float64Array(n * n);
   const c22 = new Float64Array(n * n);
   for (let i = 0; i < n; i++) {
@@ -76,6 +104,7 @@ export function discretizeVanLoan(
   }
   transposeInto(c22, n, n, A);
   matMulInto(A, c12, n, n, n, Q);
+  for (let k = 0; k < n * n; k++) Q[k]! *= alpha;
   // Φ·C12 is symmetric only up to rounding; covariances downstream rely on exact symmetry.
   symmetrizeInPlace(Q, n);
   return { A, Q };
