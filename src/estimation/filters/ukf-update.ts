@@ -24,6 +24,9 @@ import {
  * Every process model of this project is linear, and the unscented transform of a linear map
  * is exact, so a UKF here predicts with the exact linear step (kalmanPredictInPlace) and uses
  * this update; only h may be nonlinear.
+ *
+ * Throws when the workspaces do not fit (uws.n ≠ ws.n, or model.dim above either maxM): that is a
+ * programmer error, and the sigma-point buffers would otherwise overlap silently.
  */
 export function unscentedUpdateInPlace(
   model: MeasurementModel,
@@ -37,6 +40,9 @@ export function unscentedUpdateInPlace(
 ): UpdateVerdict {
   const n = ws.n;
   const m = model.dim;
+  if (uws.n !== n || m > uws.maxM || m > ws.maxM) {
+    throw new Error(`unscentedUpdateInPlace: workspaces sized for ${ws.n}/${uws.n} states and ${ws.maxM}/${uws.maxM} components do not fit a ${m}-component model`);
+  }
   ws.lastM = m;
   ws.nis = Number.NaN;
   if (!sigmaPointsInto(x, P, uws)) return 'numerics';

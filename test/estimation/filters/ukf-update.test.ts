@@ -157,4 +157,10 @@ describe('unscentedUpdateInPlace', () => {
     expect([...x]).toEqual([0, 0]);
     expect([...P]).toEqual([1, 3, 3, 1]);
   });
+
+  it('throws when the unscented workspace does not fit the filter workspace', () => {
+    const ws = new FilterWorkspace(2, 1);
+    const uws = new UnscentedWorkspace(3, 1, params);
+    expect(() => unscentedUpdateInPlace(levelSensor(), Float64Array.of(2), Float64Array.of(1), Infinity, Float64Array.of(0, 0), Float64Array.of(4, 1, 1, 2), ws, uws)).toThrow(/do not fit/);
+  });
 });

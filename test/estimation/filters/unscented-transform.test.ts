@@ -90,6 +90,13 @@ describe('sigmaPointsInto', () => {
     for (let i = 0; i < uws.count; i++) expect(uws.sigmaPoints[i * 2]).toBe(0);
   });
 
+  it('keeps a tiny variance next to a large one (the singularity test is per state, not global)', () => {
+    // tug-02: position variance 1e6 m² beside a heading variance of 1e-8 rad².
+    const uws = new UnscentedWorkspace(2, 1, { alpha: 1, beta: 0, kappa: 1 });
+    expect(sigmaPointsInto(Float64Array.of(0, 0), Float64Array.of(1e6, 0, 0, 1e-8), uws)).toBe(true);
+    expect(uws.sigmaPoints[2 * 2 + 1]! / Math.sqrt(3e-8)).toBeCloseTo(1, 12);
+  });
+
   it('refuses a covariance that is not positive semi-definite', () => {
     const uws = new UnscentedWorkspace(2, 1, { alpha: 1, beta: 0, kappa: 1 });
     expect(sigmaPointsInto(Float64Array.of(0, 0), Float64Array.of(1, 2, 2, 1), uws)).toBe(false);
