@@ -86,7 +86,9 @@ export class CompositeModel implements ProcessModel {
     const n = this.dim;
     A.fill(0, 0, n * n);
     Q.fill(0, 0, n * n);
-    for (const b of this.blocks) {
+    // Indexed loops: the per-step path must not create iterators.
+    for (let k = 0; k < this.blocks.length; k++) {
+      const b = this.blocks[k]!;
       const d = b.model.dim;
       b.model.discretizeInto(dtS, b.A, b.Q);
       for (let i = 0; i < d; i++) {
@@ -100,7 +102,8 @@ export class CompositeModel implements ProcessModel {
   }
 
   private applyInputs(dtS: number, u: Float64Array, x: Float64Array): void {
-    for (const b of this.blocks) {
+    for (let k = 0; k < this.blocks.length; k++) {
+      const b = this.blocks[k]!;
       if (b.inputOffset < 0) continue;
       const d = b.model.dim;
       for (let i = 0; i < b.u.length; i++) b.u[i] = u[b.inputOffset + i]!;
