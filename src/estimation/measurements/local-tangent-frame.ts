@@ -105,7 +105,16 @@ export class LocalTangentFrame {
 
   /** Geodetic (degrees, metres) to ENU metres about the origin, into out[0..2] (EPSG method 9837). */
   geodeticToEnuInto(latDeg: number, lonDeg: number, hM: number, out: Float64Array): void {
-    this.geodeticOffsetToEnuInto((latDeg - this.latDeg) * DEG, wrapAngle((lonDeg - this.lonDeg) * DEG), hM, out);
+    this.geodeticOffsetToEnuInto((latDeg - this.latDeg) * DEG, this.longitudeOffsetRad(lonDeg), hM, out);
+  }
+
+  /** λ − λ0 in radians, wrapped to (−π, π], exact in degrees before the conversion. */
+  longitudeOffsetRad(lonDeg: number): number {
+    let d = lonDeg - this.lonDeg;
+    // Across the antimeridian, −179.9998 − 179.9995 would round; shifting the report by whole
+    // turns first is exact near ±180°, and the difference of close values is then exact too.
+    if (d > 180 || d <= -180) d = (lonDeg - 360 * Math.round(d / 360)) - this.lonDeg;
+    return wrapAngle(d * DEG);
   }
 
   /** ENU metres about the origin to geodetic, into out[0..2] = latitude (deg), longitude (deg, (−180, 180]), height (m). */

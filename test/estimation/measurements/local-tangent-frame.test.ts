@@ -94,6 +94,15 @@ describe('LocalTangentFrame', () => {
     expect(Math.abs(geo[1]! - -179.999)).toBeLessThan(1e-11);
   });
 
+  it('converts a longitude across the antimeridian as exactly as the same longitude plus 360°', () => {
+    const dateline = new LocalTangentFrame({ latDeg: -17, lonDeg: 179.9995, hM: 0 });
+    const west = new Float64Array(3);
+    const east = new Float64Array(3);
+    dateline.geodeticToEnuInto(-17.0001, -179.9998, 3, west);
+    dateline.geodeticToEnuInto(-17.0001, 180.0002, 3, east); // 180.0002 − 179.9995 is exact in floating point
+    expectCloseToMatrix(west, east, 1e-12);
+  });
+
   it('wraps the configured origin longitude to (−180, 180]', () => {
     expect(new LocalTangentFrame({ latDeg: 10, lonDeg: 370, hM: 0 }).lonDeg).toBeCloseTo(10, 12);
     expect(new LocalTangentFrame({ latDeg: 10, lonDeg: -180, hM: 0 }).lonDeg).toBe(180);
