@@ -2,7 +2,7 @@ import type { DecodeRejection } from './decode-rejection.js';
 import type { DecodedMeasurement } from './decoded-measurement.js';
 import { reject } from './decoded-measurement.js';
 import type { CsvDecoderSpec, TimeUnit } from './payload-decoder-spec.js';
-import { PayloadDecoderSpecError, maxBytesOf } from './payload-decoder-spec.js';
+import { PayloadDecoderSpecError, maxBytesOf, timeUnitOf } from './payload-decoder-spec.js';
 import type { PayloadDecoder } from './payload-decoder.js';
 import { fillSigmaInto } from './measurement-noise-reader.js';
 import { parseNumberText } from './number-text.js';
@@ -31,10 +31,14 @@ export function compileCsvPayloadDecoder(spec: CsvDecoderSpec, dim: number): Pay
   }
   const valueColumns = Int32Array.from(spec.values);
   const timeColumn = spec.time ?? -1;
-  const timeUnit: TimeUnit = spec.timeUnit ?? 'auto';
+  const timeUnit = timeUnitOf(spec);
   const sigmaColumn = spec.sigma ?? -1;
   const sequenceColumn = spec.sequence ?? -1;
-  const separator = (spec.separator ?? ',').charCodeAt(0);
+  const separatorText = spec.separator ?? ',';
+  if (separatorText !== ',' && separatorText !== ';' && separatorText !== '\t') {
+    throw new PayloadDecoderSpecError(`csv separator must be ",", ";" or a tab, got ${JSON.stringify(separatorText)}`);
+  }
+  const separator = separatorText.charCodeAt(0);
   const maxColumn = Math.max(...columns);
   // Reused by every decode of this decoder: decode is synchronous, so calls never interleave.
   const fieldStart = new Int32Array(maxColumn + 1);

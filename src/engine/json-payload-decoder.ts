@@ -2,7 +2,7 @@ import type { DecodeRejection } from './decode-rejection.js';
 import type { DecodedMeasurement } from './decoded-measurement.js';
 import { reject } from './decoded-measurement.js';
 import type { JsonDecoderSpec, TimeUnit } from './payload-decoder-spec.js';
-import { PayloadDecoderSpecError, maxBytesOf } from './payload-decoder-spec.js';
+import { PayloadDecoderSpecError, maxBytesOf, timeUnitOf } from './payload-decoder-spec.js';
 import type { PayloadDecoder } from './payload-decoder.js';
 import type { JsonFieldPath } from './json-field-path.js';
 import { FIELD_MISSING, compileJsonFieldPath, lookupJsonField } from './json-field-path.js';
@@ -24,7 +24,7 @@ export function compileJsonPayloadDecoder(spec: JsonDecoderSpec, dim: number): P
   const maxBytes = maxBytesOf(spec);
   const valuePaths = spec.values.map(compileJsonFieldPath);
   const timePath = optionalPath(spec.time);
-  const timeUnit: TimeUnit = spec.timeUnit ?? 'auto';
+  const timeUnit = timeUnitOf(spec);
   const sigmaPath = optionalPath(spec.sigma);
   const covariancePath = optionalPath(spec.covariance);
   const sequencePath = optionalPath(spec.sequence);

@@ -12,6 +12,9 @@
  */
 export type TimeUnit = 'auto' | 's' | 'ms' | 'iso';
 
+/** Every TimeUnit, for schemas and checks. */
+export const TIME_UNITS: readonly TimeUnit[] = ['auto', 's', 'ms', 'iso'];
+
 /** Default upper bound on a payload's size in bytes. */
 export const DEFAULT_MAX_PAYLOAD_BYTES = 16384;
 
@@ -81,4 +84,13 @@ export function maxBytesOf(spec: CommonDecoderSpec): number {
     throw new PayloadDecoderSpecError(`maxBytes must be a positive integer, got ${maxBytes}`);
   }
   return maxBytes;
+}
+
+/** The checked timeUnit of a spec (default 'auto'); throws PayloadDecoderSpecError for an unknown one. */
+export function timeUnitOf(spec: { readonly timeUnit?: TimeUnit }): TimeUnit {
+  const unit = spec.timeUnit ?? 'auto';
+  if (!TIME_UNITS.includes(unit)) {
+    throw new PayloadDecoderSpecError(`timeUnit must be one of ${TIME_UNITS.join(', ')}, got ${String(unit)}`);
+  }
+  return unit;
 }

@@ -6,6 +6,11 @@ import { compileCsvPayloadDecoder } from './csv-payload-decoder.js';
 import { compileNumberPayloadDecoder } from './number-payload-decoder.js';
 
 export type { PayloadDecoderSpec } from './payload-decoder-spec.js';
+export { PayloadDecoderSpecError } from './payload-decoder-spec.js';
+export type { DecodeRejection } from './decode-rejection.js';
+export { DECODE_REJECTIONS } from './decode-rejection.js';
+export type { DecodedMeasurement } from './decoded-measurement.js';
+export { createDecodedMeasurement } from './decoded-measurement.js';
 
 /** Largest measurement dimension M a decoder accepts (R is M×M and preallocated per slot). */
 export const MAX_MEASUREMENT_DIM = 64;

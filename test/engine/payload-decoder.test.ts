@@ -322,6 +322,8 @@ describe('compilePayloadDecoder', () => {
     ['a fractional csv column', { format: 'csv', values: [0], time: 1.5 }, 1],
     ['a csv column past 1023', { format: 'csv', values: [1024] }, 1],
     ['an unknown format', { format: 'xml' } as unknown as PayloadDecoderSpec, 1],
+    ['an unknown time unit', { format: 'json', values: ['v'], time: 't', timeUnit: 'us' } as unknown as PayloadDecoderSpec, 1],
+    ['an unknown csv separator', { format: 'csv', values: [0], separator: '|' } as unknown as PayloadDecoderSpec, 1],
   ] as [string, PayloadDecoderSpec, number][])('refuses %s', (_what, spec, dim) => {
     expect(() => compilePayloadDecoder(spec, dim)).toThrow(PayloadDecoderSpecError);
   });
