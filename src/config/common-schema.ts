@@ -31,10 +31,16 @@ export const countSchema = z.number().int().min(1);
 /** A TCP port; 0 asks the operating system for a free one (tests). */
 export const portSchema = z.number().int().min(0).max(65535);
 
+/** An error option for a union: `required` when the field is absent, else `expected`. */
+export function unionError(expected: string): { error: (issue: { input?: unknown }) => string } {
+  return { error: (issue) => (issue.input === undefined ? 'required' : expected) };
+}
+
 /** One positive number for every entry, or a list with one positive number per entry. */
-export const positiveOrListSchema = z.union([positiveSchema, z.array(positiveSchema).min(1)], {
-  error: 'expected a positive number or a list of positive numbers',
-});
+export const positiveOrListSchema = z.union(
+  [positiveSchema, z.array(positiveSchema).min(1)],
+  unionError('expected a positive number or a list of positive numbers'),
+);
 
 /** A matrix as a list of rows, e.g. `[[1, 0], [0, 1]]`. */
 export const matrixSchema = z.array(z.array(z.number()).min(1)).min(1);
@@ -91,6 +97,4 @@ export function templatePlaceholders(template: string): string[] {
 }
 
 /** MQTT quality of service for subscriptions. */
-export const subscribeQosSchema = z.union([z.literal(0), z.literal(1), z.literal(2)], {
-  error: 'expected 0, 1 or 2',
-});
+export const subscribeQosSchema = z.union([z.literal(0), z.literal(1), z.literal(2)], unionError('expected 0, 1 or 2'));

@@ -3,6 +3,7 @@
  * present in each message; the decoder rejects a message that lacks one.
  */
 import { z } from 'zod';
+import type { DeepReadonly } from './deep-freeze.js';
 
 /**
  * A JSON field path: keys joined by dots and array indices in brackets, e.g. `pos.lat`,
@@ -70,6 +71,6 @@ export const decodeSchema = z.discriminatedUnion('format', [jsonDecodeSchema, nu
 export type DecodeConfig = z.output<typeof decodeSchema>;
 
 /** How many measurement components a decoder yields. */
-export function decodedDimension(decode: DecodeConfig): number {
+export function decodedDimension(decode: DeepReadonly<DecodeConfig>): number {
   return decode.format === 'number' ? 1 : decode.values.length;
 }

@@ -11,6 +11,7 @@ import {
   positiveSchema,
   stateNameSchema,
   topicTemplateSchema,
+  unionError,
 } from './common-schema.js';
 import { checkEstimator } from './estimator-checks.js';
 import { modelSchema } from './model-schema.js';
@@ -46,7 +47,7 @@ export const priorSchema = z.strictObject({
  */
 export const gateSchema = z.strictObject({
   probability: z
-    .union([z.number().min(0.5).max(0.999999), z.literal('off')], { error: 'expected a probability from 0.5 to 0.999999, or "off"' })
+    .union([z.number().min(0.5).max(0.999999), z.literal('off')], unionError('expected a probability from 0.5 to 0.999999, or "off"'))
     .default(0.99),
   maxConsecutiveRejections: countSchema.default(5),
   onRejectionRun: z.enum(['reinitialize', 'inflate']).default('reinitialize'),
@@ -82,7 +83,7 @@ export const publishSchema = z
     topic: topicTemplateSchema.default('statecast/{estimator}/{entity}/estimate'),
     mode: z.enum(['every-update', 'fixed-rate']).default('every-update'),
     rateHz: positiveSchema.optional(),
-    qos: z.union([z.literal(0), z.literal(1)], { error: 'expected 0 or 1' }).default(0),
+    qos: z.union([z.literal(0), z.literal(1)], unionError('expected 0 or 1')).default(0),
     retain: z.boolean().default(false),
     includeCovariance: z.boolean().default(false),
     smoothedTopic: topicTemplateSchema.optional(),

@@ -4,7 +4,15 @@
  * settings are checked here.
  */
 import { z } from 'zod';
-import { matrixSchema, matrixShapeProblem, positiveOrListSchema, positiveSchema, stateNameSchema } from './common-schema.js';
+import {
+  matrixSchema,
+  matrixShapeProblem,
+  positiveOrListSchema,
+  positiveSchema,
+  stateNameSchema,
+  unionError,
+} from './common-schema.js';
+import type { DeepReadonly } from './deep-freeze.js';
 import { checkCovarianceRows } from './model-schema.js';
 
 /**
@@ -44,9 +52,10 @@ export const linearMeasurementSchema = z
     }
   });
 
-const positionSchema = z.union([z.tuple([stateNameSchema, stateNameSchema]), z.tuple([stateNameSchema, stateNameSchema, stateNameSchema])], {
-  error: 'expected [east, north] or [east, north, up] state names',
-});
+const positionSchema = z.union(
+  [z.tuple([stateNameSchema, stateNameSchema]), z.tuple([stateNameSchema, stateNameSchema, stateNameSchema])],
+  unionError('expected [east, north] or [east, north, up] state names'),
+);
 
 /**
  * A WGS-84 latitude/longitude (and with `withHeight`, ellipsoidal height) fix, projected to the
@@ -109,7 +118,7 @@ export const measurementSchema = z.discriminatedUnion('type', [
 export type MeasurementConfig = z.output<typeof measurementSchema>;
 
 /** The measurement dimension M and, in words, why (for messages). */
-export function measurementDimension(m: MeasurementConfig): { dim: number; because: string } {
+export function measurementDimension(m: DeepReadonly<MeasurementConfig>): { dim: number; because: string } {
   switch (m.type) {
     case 'linear':
       return m.C === undefined ? { dim: 1, because: 'a linear sensor with reads' } : { dim: m.C.length, because: 'the rows of C' };
@@ -128,7 +137,7 @@ export function measurementDimension(m: MeasurementConfig): { dim: number; becau
 }
 
 /** Every state name a measurement reads, with its path relative to the measurement. */
-export function statesReadBy(m: MeasurementConfig): { path: (string | number)[]; state: string }[] {
+export function statesReadBy(m: DeepReadonly<MeasurementConfig>): { path: (string | number)[]; state: string }[] {
   const list = (key: string, names: readonly string[]) => names.map((state, i) => ({ path: [key, i], state }));
   switch (m.type) {
     case 'linear':
@@ -147,6 +156,6 @@ export function statesReadBy(m: MeasurementConfig): { path: (string | number)[];
 }
 
 /** True when the measurement function is linear in the state (a plain KF can use it). */
-export function isLinearMeasurement(m: MeasurementConfig): boolean {
+export function isLinearMeasurement(m: DeepReadonly<MeasurementConfig>): boolean {
   return m.type === 'linear';
 }

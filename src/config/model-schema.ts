@@ -14,6 +14,7 @@ import {
   stateNameSchema,
   type MatrixRows,
 } from './common-schema.js';
+import type { DeepReadonly } from './deep-freeze.js';
 
 const stateListSchema = z.array(stateNameSchema).min(1);
 type Ctx = z.RefinementCtx;
@@ -184,7 +185,7 @@ export type ModelBlockConfig = z.output<typeof modelBlockSchema>;
 export type ModelConfig = z.output<typeof modelSchema>;
 
 /** The state names of one block in state-vector order. */
-export function blockStateNames(block: ModelBlockConfig): string[] {
+export function blockStateNames(block: DeepReadonly<ModelBlockConfig>): string[] {
   switch (block.type) {
     case 'random-walk':
     case 'continuous':
@@ -210,6 +211,6 @@ export function blockStateNames(block: ModelBlockConfig): string[] {
 }
 
 /** The state names of a model in state-vector order (composite blocks end to end). */
-export function modelStateNames(model: ModelConfig): string[] {
+export function modelStateNames(model: DeepReadonly<ModelConfig>): string[] {
   return model.type === 'composite' ? model.blocks.flatMap(blockStateNames) : blockStateNames(model);
 }

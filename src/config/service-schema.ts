@@ -3,7 +3,7 @@
  * WebSocket server, authentication, checkpoints, logging and the built-in simulator.
  */
 import { z } from 'zod';
-import { countSchema, portSchema, positiveSchema } from './common-schema.js';
+import { countSchema, portSchema, positiveSchema, unionError } from './common-schema.js';
 
 const durationMsSchema = z.number().int().min(1);
 
@@ -20,7 +20,7 @@ export const brokerSchema = z
       .string()
       .regex(/^(mqtt|mqtts|ws|wss):\/\/[^\s/]+/, { error: 'expected a URL starting with mqtt://, mqtts://, ws:// or wss://' })
       .optional(),
-    protocolVersion: z.union([z.literal(5), z.literal(4)], { error: 'expected 5 or 4' }).default(5),
+    protocolVersion: z.union([z.literal(5), z.literal(4)], unionError('expected 5 or 4')).default(5),
     clientId: z.string().min(1).optional(),
     username: z.string().optional(),
     password: z.string().optional(),
