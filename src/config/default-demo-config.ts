@@ -39,7 +39,7 @@ export function tanksEstimatorInput(): EstimatorInput {
       pressure: {
         topic: 'farm/{tank}/pressure',
         expectedPeriodS: 0.1,
-        decode: { format: 'json', values: ['head_m'] },
+        decode: { format: 'json', values: ['head_m'], time: 't', sequence: 'seq' },
         measurement: { type: 'linear', reads: { level: 1, pressure_bias: 1 }, sigma: 0.005 },
       },
     },
@@ -70,7 +70,7 @@ export function yardEstimatorInput(): EstimatorInput {
       wheel: {
         topic: 'yard/{vehicle}/wheel',
         expectedPeriodS: 0.1,
-        decode: { format: 'json', values: ['speed_mps'] },
+        decode: { format: 'json', values: ['speed_mps'], time: 't', sequence: 'seq' },
         measurement: { type: 'speed', velocity: ['v_east', 'v_north'], sigma: 0.1 },
       },
     },
