@@ -33,7 +33,7 @@ const estimatorListSchema = z.array(estimatorSchema).min(1).superRefine((list, c
 /** The whole configuration file. `$schema` may point an editor at the JSON Schema. */
 export const configSchema = z
   .strictObject({
-    $schema: z.string().optional(),
+    $schema: z.string().exactOptional(),
     broker: brokerSchema.prefault({}),
     embeddedBroker: embeddedBrokerSchema.prefault({}),
     http: httpSchema.prefault({}),

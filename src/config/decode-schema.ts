@@ -33,11 +33,11 @@ export const jsonDecodeSchema = z
   .strictObject({
     format: z.literal('json'),
     values: z.array(fieldPathSchema).min(1),
-    time: fieldPathSchema.optional(),
+    time: fieldPathSchema.exactOptional(),
     timeUnit: timeUnitSchema,
-    sigma: fieldPathSchema.optional(),
-    covariance: fieldPathSchema.optional(),
-    sequence: fieldPathSchema.optional(),
+    sigma: fieldPathSchema.exactOptional(),
+    covariance: fieldPathSchema.exactOptional(),
+    sequence: fieldPathSchema.exactOptional(),
     maxBytes: maxBytesSchema,
   })
   .superRefine((d, ctx) => {
@@ -56,10 +56,10 @@ export const numberDecodeSchema = z.strictObject({
 export const csvDecodeSchema = z.strictObject({
   format: z.literal('csv'),
   values: z.array(columnSchema).min(1),
-  time: columnSchema.optional(),
+  time: columnSchema.exactOptional(),
   timeUnit: timeUnitSchema,
-  sigma: columnSchema.optional(),
-  sequence: columnSchema.optional(),
+  sigma: columnSchema.exactOptional(),
+  sequence: columnSchema.exactOptional(),
   separator: z.enum([',', ';', '\t']).default(','),
   maxBytes: maxBytesSchema,
 });

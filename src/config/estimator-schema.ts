@@ -68,8 +68,8 @@ export const healthSchema = z.strictObject({
   leaveAfter: countSchema.default(5),
   gateRateLimit: z.number().min(0).max(1).default(0.2),
   silentFactor: z.number().gt(1).default(3),
-  traceLimit: positiveSchema.optional(),
-  sigmaLimits: z.record(stateNameSchema, positiveSchema).optional(),
+  traceLimit: positiveSchema.exactOptional(),
+  sigmaLimits: z.record(stateNameSchema, positiveSchema).exactOptional(),
 });
 
 /**
@@ -82,11 +82,11 @@ export const publishSchema = z
   .strictObject({
     topic: topicTemplateSchema.default('statecast/{estimator}/{entity}/estimate'),
     mode: z.enum(['every-update', 'fixed-rate']).default('every-update'),
-    rateHz: positiveSchema.optional(),
+    rateHz: positiveSchema.exactOptional(),
     qos: z.union([z.literal(0), z.literal(1)], unionError('expected 0 or 1')).default(0),
     retain: z.boolean().default(false),
     includeCovariance: z.boolean().default(false),
-    smoothedTopic: topicTemplateSchema.optional(),
+    smoothedTopic: topicTemplateSchema.exactOptional(),
   })
   .superRefine((p, ctx) => {
     if (p.mode === 'fixed-rate' && p.rateHz === undefined) {

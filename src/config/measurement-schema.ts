@@ -23,11 +23,11 @@ import { checkCovarianceRows } from './model-schema.js';
 export const linearMeasurementSchema = z
   .strictObject({
     type: z.literal('linear'),
-    C: matrixSchema.optional(),
-    reads: z.record(stateNameSchema, z.number()).optional(),
-    D: matrixSchema.optional(),
-    R: matrixSchema.optional(),
-    sigma: positiveOrListSchema.optional(),
+    C: matrixSchema.exactOptional(),
+    reads: z.record(stateNameSchema, z.number()).exactOptional(),
+    D: matrixSchema.exactOptional(),
+    R: matrixSchema.exactOptional(),
+    sigma: positiveOrListSchema.exactOptional(),
   })
   .superRefine((m, ctx) => {
     if ((m.C === undefined) === (m.reads === undefined)) {

@@ -73,7 +73,7 @@ export const constantVelocitySchema = z
   .strictObject({
     type: z.literal('constant-velocity'),
     axes: stateListSchema,
-    rateNames: stateListSchema.optional(),
+    rateNames: stateListSchema.exactOptional(),
     q: positiveOrListSchema,
   })
   .superRefine((b, ctx) => {
@@ -91,8 +91,8 @@ export const constantAccelerationSchema = z
   .strictObject({
     type: z.literal('constant-acceleration'),
     axes: stateListSchema,
-    rateNames: stateListSchema.optional(),
-    accelerationNames: stateListSchema.optional(),
+    rateNames: stateListSchema.exactOptional(),
+    accelerationNames: stateListSchema.exactOptional(),
     q: positiveOrListSchema,
   })
   .superRefine((b, ctx) => {
@@ -134,9 +134,9 @@ export const discreteSchema = z
     states: stateListSchema,
     stepS: positiveSchema,
     A: matrixSchema,
-    B: matrixSchema.optional(),
+    B: matrixSchema.exactOptional(),
     Q: matrixSchema,
-    G: matrixSchema.optional(),
+    G: matrixSchema.exactOptional(),
   })
   .superRefine((b, ctx) => {
     const p = b.states.length;

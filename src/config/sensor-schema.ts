@@ -15,7 +15,7 @@ export const sensorSchema = z
   .strictObject({
     topic: topicPatternSchema,
     qos: subscribeQosSchema.default(1),
-    expectedPeriodS: positiveSchema.optional(),
+    expectedPeriodS: positiveSchema.exactOptional(),
     decode: decodeSchema,
     measurement: measurementSchema,
   })

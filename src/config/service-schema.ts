@@ -19,16 +19,16 @@ export const brokerSchema = z
     url: z
       .string()
       .regex(/^(mqtt|mqtts|ws|wss):\/\/[^\s/]+/, { error: 'expected a URL starting with mqtt://, mqtts://, ws:// or wss://' })
-      .optional(),
+      .exactOptional(),
     protocolVersion: z.union([z.literal(5), z.literal(4)], unionError('expected 5 or 4')).default(5),
-    clientId: z.string().min(1).optional(),
-    username: z.string().optional(),
-    password: z.string().optional(),
+    clientId: z.string().min(1).exactOptional(),
+    username: z.string().exactOptional(),
+    password: z.string().exactOptional(),
     tls: z
       .strictObject({
-        caFile: z.string().min(1).optional(),
-        certFile: z.string().min(1).optional(),
-        keyFile: z.string().min(1).optional(),
+        caFile: z.string().min(1).exactOptional(),
+        certFile: z.string().min(1).exactOptional(),
+        keyFile: z.string().min(1).exactOptional(),
         verifyCertificate: z.boolean().default(true),
       })
       .superRefine((t, ctx) => {
@@ -37,7 +37,7 @@ export const brokerSchema = z
           ctx.addIssue({ code: 'custom', path: [missing], message: 'a client certificate needs both certFile and keyFile' });
         }
       })
-      .optional(),
+      .exactOptional(),
     sessionExpiryS: z.number().int().min(0).max(4294967295).default(86400),
     keepaliveS: z.number().int().min(0).max(65535).default(30),
     connectTimeoutMs: durationMsSchema.default(10000),
@@ -87,7 +87,7 @@ export const httpSchema = z.strictObject({
 
 /** Optional bearer token for the reset API and the WebSocket (at least 16 characters). */
 export const authSchema = z.strictObject({
-  token: z.string().min(16).optional(),
+  token: z.string().min(16).exactOptional(),
 });
 
 /** Periodic snapshots of every track, restored at start-up. `intervalS` between snapshots. */
@@ -114,7 +114,7 @@ export const simulatorSchema = z.strictObject({
   enabled: z.boolean().default(false),
   scenarios: z.array(z.enum(SIMULATOR_SCENARIOS)).min(1).prefault([...SIMULATOR_SCENARIOS]),
   seed: z.number().int().default(1),
-  faults: z.string().optional(),
+  faults: z.string().exactOptional(),
   speed: positiveSchema.max(1000).default(1),
 });
 
