@@ -30,9 +30,11 @@ export class MeasurementChannel {
   private readonly spec: ChannelSpec;
   private readonly faults: ChannelFaults;
   private readonly clean: boolean;
+  // Fault streams are forked only when their fault is present; forks depend on the label
+  // alone, so this laziness changes no draw.
   private readonly spikeStreams: Prng[];
-  private readonly duplicateStream: Prng;
-  private readonly burstStream: Prng;
+  private readonly duplicateStream: Prng | undefined;
+  private readonly burstStream: Prng | undefined;
   private readonly last: Float64Array;
   private hasLast = false;
   private backlog: SimulatedMessage[] = [];
@@ -50,8 +52,9 @@ export class MeasurementChannel {
       f.clockSkewS === 0 &&
       f.randomOutages === undefined;
     this.spikeStreams = f.spikes.map((_, i) => spec.prng.fork(`spikes/${i}`));
-    this.duplicateStream = spec.prng.fork('duplicates');
-    this.burstStream = spec.prng.fork('late-burst');
+    this.duplicateStream = f.duplicateProbability > 0 ? spec.prng.fork('duplicates') : undefined;
+    const bursts = f.randomOutages !== undefined || f.outageWindows.length > 0;
+    this.burstStream = bursts ? spec.prng.fork('late-burst') : undefined;
     this.last = new Float64Array(spec.valueCount);
     if (f.randomOutages !== undefined) this.scheduleOutage(0);
   }
@@ -85,7 +88,7 @@ export class MeasurementChannel {
       }
     }
     const reported = f.clockSkewS === 0 ? tText : (epochS + f.clockSkewS).toFixed(3);
-    const duplicate = f.duplicateProbability > 0 && this.duplicateStream.nextFloat() < f.duplicateProbability;
+    const duplicate = this.duplicateStream !== undefined && this.duplicateStream.nextFloat() < f.duplicateProbability;
     const held = this.inOutage(elapsedS);
     if (!held && this.backlog.length > 0) this.release(out, epochS);
     if (inAnyWindow(f.dropouts, elapsedS)) return;
@@ -109,18 +112,24 @@ export class MeasurementChannel {
 
   private inOutage(elapsedS: number): boolean {
     if (this.faults.randomOutages !== undefined) {
-      while (elapsedS >= this.outageEndS) this.scheduleOutage(this.outageEndS);
-      if (elapsedS >= this.outageStartS) return true;
+      if (elapsedS >= this.outageEndS) {
+        // The link is back for this sample, which releases the backlog; the next outage is
+        // drawn from now, so two outages never merge into one longer than the maximum.
+        this.scheduleOutage(elapsedS);
+      } else if (elapsedS >= this.outageStartS) {
+        return true;
+      }
     }
     return inAnyWindow(this.faults.outageWindows, elapsedS);
   }
 
-  /** Next random outage after `afterS`: exponential gap, uniform duration. */
+  /** Next random outage after `afterS`: exponential gap (mean meanIntervalS), uniform duration. */
   private scheduleOutage(afterS: number): void {
     const o = this.faults.randomOutages!;
-    const gapS = -o.meanIntervalS * Math.log(1 - this.burstStream.nextFloat());
+    const prng = this.burstStream!;
+    const gapS = -o.meanIntervalS * Math.log(1 - prng.nextFloat());
     this.outageStartS = afterS + gapS;
-    this.outageEndS = this.outageStartS + this.burstStream.nextUniform(o.minDurationS, o.maxDurationS);
+    this.outageEndS = this.outageStartS + prng.nextUniform(o.minDurationS, o.maxDurationS);
   }
 
   /** Releases the backlog at once in a Fisher–Yates shuffled order, event times unchanged. */
@@ -128,7 +137,7 @@ export class MeasurementChannel {
     const held = this.backlog;
     this.backlog = [];
     for (let i = held.length - 1; i > 0; i -= 1) {
-      const j = this.burstStream.nextInt(i + 1);
+      const j = this.burstStream!.nextInt(i + 1);
       const tmp = held[i]!;
       held[i] = held[j]!;
       held[j] = tmp;

@@ -34,7 +34,9 @@ function hashLabel(keyWord: number, label: string): number {
 }
 
 function deriveKey(parent: readonly number[], label: string): number[] {
-  return parent.map((word, i) => hashLabel(fmix32(word + Math.imul(i + 1, 0x9e3779b9)), label));
+  const key = [0, 0, 0, 0];
+  for (let i = 0; i < 4; i += 1) key[i] = hashLabel(fmix32((parent[i] ?? 0) + Math.imul(i + 1, 0x9e3779b9)), label);
+  return key;
 }
 
 const ROOT_KEY: readonly number[] = [0x243f6a88, 0x85a308d3, 0x13198a2e, 0x03707344];
@@ -135,8 +137,9 @@ function rotl(x: number, k: number): number {
 }
 
 function stateFromKey(key: readonly number[]): [number, number, number, number] {
-  const w = (i: number): number => fmix32((key[i] ?? 0) + Math.imul(i + 1, 0x9e3779b9));
-  const state: [number, number, number, number] = [w(0), w(1), w(2), w(3)];
+  // A second, different mixing of the key, so the state is not the key that forks derive from.
+  const state: [number, number, number, number] = [0, 0, 0, 0];
+  for (let i = 0; i < 4; i += 1) state[i] = fmix32((key[i] ?? 0) + Math.imul(i + 5, 0x9e3779b9));
   if ((state[0] | state[1] | state[2] | state[3]) === 0) state[0] = 1;
   return state;
 }
