@@ -65,8 +65,8 @@ export const randomWalkSchema = z
   .superRefine((b, ctx) => checkPerEntry(ctx, 'q', b.q, b.states.length, 'state'));
 
 /**
- * Constant velocity (white-noise acceleration) per axis; states per axis: position, rate
- * (`[east, v_east, north, v_north]`). `q`: acceleration spectral density, unit²/s³, one or per axis.
+ * Constant velocity (white-noise acceleration) per axis; states: all positions, then all
+ * rates (`[east, north, v_east, v_north]`), the order of linear sensors' C columns. `q`: acceleration spectral density, unit²/s³, one or per axis.
  * `rateNames` defaults by `defaultRateNames`.
  */
 export const constantVelocitySchema = z
@@ -83,8 +83,8 @@ export const constantVelocitySchema = z
   .transform((b) => ({ ...b, rateNames: b.rateNames ?? defaultRateNames(b.axes) }));
 
 /**
- * Constant acceleration (white-noise jerk) per axis; states per axis: position, rate,
- * acceleration. `q`: jerk spectral density, unit²/s⁵, one or per axis. Names default by
+ * Constant acceleration (white-noise jerk) per axis; states: all positions, then all rates,
+ * then all accelerations. `q`: jerk spectral density, unit²/s⁵, one or per axis. Names default by
  * `defaultRateNames` and `defaultAccelerationNames`.
  */
 export const constantAccelerationSchema = z
@@ -125,8 +125,9 @@ export const continuousSchema = z
   });
 
 /**
- * x(k+1) = A x(k) + B u(k) + G w(k), cov(w) = Q, for a fixed step `stepS` (s). A is P×P; B
- * (known inputs) P×u; G (noise input) P×r with Q r×r, or Q P×P when G is absent.
+ * x(n+1) = A x(n) + B w(n) + G u(n), cov(w) = Q, for a fixed step `stepS` (s), in the trade's
+ * notation. A is P×P; B (noise input) P×r with Q r×r, or Q P×P when B is absent; G (known
+ * inputs) P×u.
  */
 export const discreteSchema = z
   .strictObject({
@@ -141,9 +142,9 @@ export const discreteSchema = z
   .superRefine((b, ctx) => {
     const p = b.states.length;
     checkShape(ctx, 'A', b.A, p, p);
-    if (b.B !== undefined) checkShape(ctx, 'B', b.B, p, b.B[0]?.length ?? 0);
-    const r = b.G === undefined ? p : (b.G[0]?.length ?? 0);
-    if (b.G === undefined || checkShape(ctx, 'G', b.G, p, r)) checkCovarianceRows(ctx, 'Q', b.Q, r);
+    if (b.G !== undefined) checkShape(ctx, 'G', b.G, p, b.G[0]?.length ?? 0);
+    const r = b.B === undefined ? p : (b.B[0]?.length ?? 0);
+    if (b.B === undefined || checkShape(ctx, 'B', b.B, p, r)) checkCovarianceRows(ctx, 'Q', b.Q, r);
   });
 
 const blockOptions = [
@@ -196,12 +197,12 @@ export function blockStateNames(block: DeepReadonly<ModelBlockConfig>): string[]
     case 'constant-velocity': {
       // Refinements may see the block before its transform has filled the defaults in.
       const rates = block.rateNames ?? defaultRateNames(block.axes);
-      return block.axes.flatMap((a, i) => [a, rates[i] ?? `v_${a}`]);
+      return [...block.axes, ...block.axes.map((a, i) => rates[i] ?? `v_${a}`)];
     }
     case 'constant-acceleration': {
       const rates = block.rateNames ?? defaultRateNames(block.axes);
       const accels = block.accelerationNames ?? defaultAccelerationNames(block.axes);
-      return block.axes.flatMap((a, i) => [a, rates[i] ?? `v_${a}`, accels[i] ?? `a_${a}`]);
+      return [...block.axes, ...block.axes.map((a, i) => rates[i] ?? `v_${a}`), ...block.axes.map((a, i) => accels[i] ?? `a_${a}`)];
     }
     default: {
       const never: never = block;

@@ -16,7 +16,7 @@ describe('estimator checks', () => {
     expect(issuesOf({ estimators: [e] })).toEqual([
       {
         path: 'estimators[0].sensors.gnss.measurement.position[1]',
-        message: 'unknown state "up"; the model has east, v_east, north, v_north',
+        message: 'unknown state "up"; the model has east, north, v_east, v_north',
       },
     ]);
   });

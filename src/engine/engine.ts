@@ -1,0 +1,332 @@
+/**
+ * The application core: routes each message to its estimator, sensor and entity track, runs
+ * the filter, publishes estimates through a port, evaluates health on a tick, and answers the
+ * adapters' questions (EngineView). No I/O, no timers, no clock reads: the shell passes times in.
+ */
+import type { DeepReadonly } from '../config/deep-freeze.js';
+import type { EstimatorConfig } from '../config/config-schema.js';
+import type { Track } from '../estimation/track.js';
+import { traceOf } from '../estimation/linalg/covariance-summary.js';
+import { EngineEvents } from './engine-events.js';
+import type { EngineCounters, EngineView, LatestEstimate, SensorSummary, TrackDetail, TrackSummary } from './engine-view.js';
+import type { EstimateKind } from './estimate-message.js';
+import { buildEstimatorRuntime, type EstimatorRuntime, type RuntimeSensor } from './estimator-runtime.js';
+import type { HealthReason, HealthState } from './health-change.js';
+import { HealthLatch, rawSensorHealth, rawTrackHealth, worseOf } from './health-evaluator.js';
+import { entityKeyOf } from './topic-pattern.js';
+import { TrackRegistry, type TrackRecord } from './track-registry.js';
+
+/** Where estimates go (the MQTT adapter in the daemon, a file in replays). */
+export interface EstimatePublisher {
+  publish(topic: string, payload: string, qos: 0 | 1, retain: boolean): void;
+}
+
+/** One subscription the MQTT adapter must hold. */
+export interface Subscription {
+  readonly filter: string;
+  readonly qos: 0 | 1 | 2;
+}
+
+interface Estimators {
+  readonly runtime: EstimatorRuntime;
+  readonly registry: TrackRegistry;
+}
+
+/** The engine; see the module comment. */
+export class Engine implements EngineView {
+  readonly events = new EngineEvents();
+  private estimators: Estimators[] = [];
+  private received = 0;
+  private accepted = 0;
+  private produced = 0;
+  private readonly scratch = new Float64Array(64);
+  private readonly reasonScratch: HealthReason[] = [];
+
+  /** Builds every estimator from validated config (throws on a config the core cannot run). */
+  constructor(configs: readonly DeepReadonly<EstimatorConfig>[], private readonly publisher: EstimatePublisher) {
+    this.estimators = configs.map((c) => ({ runtime: buildEstimatorRuntime(c), registry: new TrackRegistry(c.entities.max) }));
+  }
+
+  /** The topic filters to subscribe to (deduplicated, highest QoS wins). */
+  subscriptions(): Subscription[] {
+    const byFilter = new Map<string, 0 | 1 | 2>();
+    for (const { runtime } of this.estimators) {
+      for (const s of runtime.sensors) {
+        const q = byFilter.get(s.pattern.subscriptionFilter);
+        byFilter.set(s.pattern.subscriptionFilter, q === undefined ? s.qos : (Math.max(q, s.qos) as 0 | 1 | 2));
+      }
+    }
+    return [...byFilter].map(([filter, qos]) => ({ filter, qos }));
+  }
+
+  /**
+   * Processes one message. Never throws: every outcome is an accepted measurement or a counted
+   * rejection with a reason. arrivalMs is the shell's clock (used where a payload has no time
+   * stamp and to refuse stamps from the future).
+   */
+  handleMessage(topic: string, payload: Uint8Array, arrivalMs: number): void {
+    this.received += 1;
+    let routed = false;
+    for (let e = 0; e < this.estimators.length; e++) {
+      const est = this.estimators[e]!;
+      const sensors = est.runtime.sensors;
+      for (let s = 0; s < sensors.length; s++) {
+        const sensor = sensors[s]!;
+        const captures = sensor.pattern.match(topic);
+        if (captures === null) continue;
+        routed = true;
+        this.process(est, sensor, captures, topic, payload, arrivalMs);
+      }
+    }
+    if (!routed) this.events.emit('measurement:rejected', { estimator: '', sensor: '', entity: null, topic, reason: 'no-route' });
+  }
+
+  private process(est: Estimators, sensor: RuntimeSensor, captures: string[], topic: string, payload: Uint8Array, arrivalMs: number): void {
+    const rt = est.runtime;
+    const slot = sensor.slot;
+    const arrivalS = arrivalMs / 1000;
+    if (!sensor.decoder.decode(payload, arrivalS, slot)) {
+      this.events.emit('measurement:rejected', { estimator: rt.name, sensor: sensor.name, entity: null, topic, reason: slot.reason ?? 'malformed' });
+      return;
+    }
+    const entity = entityKeyOf(captures);
+    let record = est.registry.get(entity);
+    if (record === undefined) {
+      record = est.registry.create(entity, captures, rt, arrivalMs);
+      if (record === undefined) {
+        this.events.emit('measurement:rejected', { estimator: rt.name, sensor: sensor.name, entity, topic, reason: 'entity-cap' });
+        return;
+      }
+      this.events.emit('track:created', { estimator: rt.name, entity });
+    }
+    record.lastSeenMs = arrivalMs;
+    let R: Float64Array | null = null;
+    if (slot.hasCovariance) {
+      R = slot.covariance;
+      if (sensor.adaptCovariance !== null && !sensor.adaptCovariance(slot, this.scratch)) R = null;
+    }
+    const track = record.track;
+    const verdict = track.ingest(sensor.index, slot.values, R, slot.timeS, arrivalS);
+    if (verdict === 'applied' || verdict === 'initialized' || verdict === 'late-applied') {
+      this.accepted += 1;
+      this.events.emit('measurement:accepted', {
+        estimator: rt.name, sensor: sensor.name, entity, late: verdict === 'late-applied', latencyS: arrivalS - slot.timeS,
+      });
+      if (rt.config.publish.mode === 'every-update') this.publishEstimate(est, record, 'filtered', track.tS);
+      if (rt.smoothedTopic !== null) this.publishSmoothed(est, record);
+    } else {
+      this.events.emit('measurement:rejected', { estimator: rt.name, sensor: sensor.name, entity, topic, reason: verdict });
+    }
+  }
+
+  private publishEstimate(est: Estimators, record: TrackRecord, kind: EstimateKind, tS: number, x?: Float64Array, P?: Float64Array): void {
+    const rt = est.runtime;
+    const track = record.track;
+    const payload = rt.serializer.serialize(
+      record.entity, kind, tS, x ?? track.x, P ?? track.P, track.coastS(tS), track.isStale(tS), record.trackHealth,
+    );
+    const topic = kind === 'smoothed' ? record.smoothedTopic! : record.estimateTopic;
+    this.emitEstimate(est, record, kind, topic, payload, tS);
+  }
+
+  private emitEstimate(est: Estimators, record: TrackRecord, kind: EstimateKind, topic: string, payload: string, tS: number): void {
+    const pub = est.runtime.config.publish;
+    record.latest[kind] = payload;
+    this.produced += 1;
+    this.publisher.publish(topic, payload, pub.qos, pub.retain);
+    if (this.events.has('estimate')) this.events.emit('estimate', { estimator: est.runtime.name, entity: record.entity, kind, topic, payload, tS });
+  }
+
+  private publishSmoothed(est: Estimators, record: TrackRecord): void {
+    const n = record.track.x.length;
+    const x = est.registry.smoothX(n);
+    const P = est.registry.smoothP(n);
+    const tS = record.track.smoothedInto(x, P);
+    if (Number.isNaN(tS) || tS === record.lastSmoothedTimeS) return;
+    record.lastSmoothedTimeS = tS;
+    this.publishEstimate(est, record, 'smoothed', tS, x, P);
+  }
+
+  /** Publishes x̂(now|n) of every initialized track of fixed-rate estimators (call at their rate). */
+  publishPredictions(estimator: string, nowMs: number): void {
+    const est = this.find(estimator);
+    if (est === undefined) return;
+    const nowS = nowMs / 1000;
+    const n = est.runtime.estimator.settings.process.dim;
+    const x = est.registry.smoothX(n);
+    const P = est.registry.smoothP(n);
+    for (const record of est.registry.records()) {
+      const track = record.track;
+      if (!track.initialized) continue;
+      const t = Math.max(nowS, track.tS);
+      if (!track.predictInto(t, x, P)) continue;
+      this.publishEstimate(est, record, 'predicted', t, x, P);
+    }
+  }
+
+  /** One health tick: evaluates every track and sensor, emitting `health:changed` on transitions. */
+  evaluateHealth(nowMs: number): void {
+    const nowS = nowMs / 1000;
+    const reasons = this.reasonScratch;
+    for (const est of this.estimators) {
+      const t = est.runtime.health;
+      for (const record of est.registry.records()) {
+        const track = record.track;
+        let worst: HealthState = 'ok';
+        const trackReasons: HealthReason[] = [];
+        for (let s = 0; s < record.sensorHealth.length; s++) {
+          reasons.length = 0;
+          const raw = rawSensorHealth(track, s, nowS, t, reasons);
+          const latch = record.sensorHealth[s]!;
+          const from = latch.state;
+          if (latch.feed(raw, reasons.slice(), t)) {
+            this.events.emit('health:changed', {
+              estimator: est.runtime.name, entity: record.entity, sensor: est.runtime.sensors[s]!.name,
+              from, to: latch.state, reasons: latch.reasons, tS: nowS,
+            });
+          }
+          worst = worseOf(worst, raw);
+          for (const r of reasons) if (!trackReasons.includes(r)) trackReasons.push(r);
+        }
+        reasons.length = 0;
+        const numerics = track.counters.numericRefusals !== record.numericsSeen;
+        record.numericsSeen = track.counters.numericRefusals;
+        const rawTrack = worseOf(worst, rawTrackHealth(track, nowS, t, numerics, reasons));
+        for (const r of reasons) if (!trackReasons.includes(r)) trackReasons.push(r);
+        const latch = record.trackLatch;
+        const from = latch.state;
+        if (latch.feed(rawTrack, trackReasons, t)) {
+          record.trackHealth = { state: latch.state, reasons: latch.reasons };
+          this.events.emit('health:changed', {
+            estimator: est.runtime.name, entity: record.entity, sensor: null, from, to: latch.state, reasons: latch.reasons, tS: nowS,
+          });
+        } else if (latch.state !== 'ok') {
+          record.trackHealth = { state: latch.state, reasons: latch.reasons };
+        }
+      }
+    }
+  }
+
+  /** Drops tracks not heard from for their estimator's idle time; returns how many went. */
+  evictIdle(nowMs: number): number {
+    let count = 0;
+    for (const est of this.estimators) {
+      const limitMs = est.runtime.config.entities.idleEvictS * 1000;
+      for (const entity of est.registry.idleSince(nowMs - limitMs)) {
+        est.registry.delete(entity);
+        this.events.emit('track:evicted', { estimator: est.runtime.name, entity, why: 'idle' });
+        count += 1;
+      }
+    }
+    return count;
+  }
+
+  /** Every estimator's tracks, for checkpoints. */
+  tracks(): Map<string, Map<string, Track>> {
+    const out = new Map<string, Map<string, Track>>();
+    for (const est of this.estimators) out.set(est.runtime.name, est.registry.trackMap());
+    return out;
+  }
+
+  /** The runtime of an estimator (for checkpoint restore and tools). */
+  runtime(estimator: string): EstimatorRuntime | undefined {
+    return this.find(estimator)?.runtime;
+  }
+
+  /** Installs a restored track for an entity (checkpoint restore); false when the cap is reached. */
+  adoptTrack(estimator: string, entity: string, track: Track, nowMs: number): boolean {
+    const est = this.find(estimator);
+    if (est === undefined) return false;
+    return est.registry.adopt(entity, entity.split('/'), est.runtime, track, nowMs);
+  }
+
+  estimatorNames(): readonly string[] {
+    return this.estimators.map((e) => e.runtime.name);
+  }
+
+  trackCount(estimator: string): number {
+    return this.find(estimator)?.registry.size ?? 0;
+  }
+
+  counters(): EngineCounters {
+    return { received: this.received, accepted: this.accepted, estimatesProduced: this.produced };
+  }
+
+  *latestEstimates(): Iterable<LatestEstimate> {
+    for (const est of this.estimators) {
+      for (const record of est.registry.records()) {
+        for (const kind of ['filtered', 'predicted', 'smoothed'] as const) {
+          const payload = record.latest[kind];
+          if (payload !== undefined) yield { estimator: est.runtime.name, entity: record.entity, kind, payload };
+        }
+      }
+    }
+  }
+
+  listTracks(): TrackSummary[] {
+    const out: TrackSummary[] = [];
+    const nowS = Date.now() / 1000;
+    for (const est of this.estimators) for (const r of est.registry.records()) out.push(this.summary(est, r, nowS));
+    return out;
+  }
+
+  trackDetail(estimator: string, entity: string): TrackDetail | null {
+    const est = this.find(estimator);
+    const record = est?.registry.get(entity);
+    if (est === undefined || record === undefined) return null;
+    const track = record.track;
+    const n = track.x.length;
+    const summary = this.summary(est, record, Date.now() / 1000);
+    const sensors: SensorSummary[] = track.stats.map((st, i) => {
+      const rejected: Record<string, number> = {};
+      for (const reason of ['gate', 'too-late', 'duplicate', 'future', 'numerics', 'not-initialized', 'malformed'] as const) {
+        const c = st.rejectionCount(reason);
+        if (c > 0) rejected[reason] = c;
+      }
+      return {
+        name: est.runtime.sensors[i]!.name, accepted: st.accepted, late: st.late, rejected,
+        lastNis: st.lastNis, windowedNisMean: st.windowedNisMean, windowFill: st.windowFill,
+        nisBand: [st.nisBandLower, st.nisBandUpper], gateRejectionRate: st.gateRejectionRate,
+        innovationRatio: Array.from(st.innovationRatio), lastTimeS: st.lastTimeS, health: record.sensorHealth[i]!.state,
+      };
+    });
+    return {
+      ...summary,
+      stateNames: est.runtime.estimator.settings.process.stateNames,
+      state: Array.from(track.x),
+      sigma: Array.from({ length: n }, (_, i) => Math.sqrt(Math.max(0, track.P[i * n + i]!))),
+      covariance: Array.from({ length: n }, (_, i) => Array.from(track.P.subarray(i * n, i * n + n))),
+      sensors,
+      counters: { ...track.counters },
+    };
+  }
+
+  resetTrack(estimator: string, entity: string): boolean {
+    const record = this.find(estimator)?.registry.get(entity);
+    if (record === undefined) return false;
+    record.track.reset(Date.now() / 1000);
+    record.latest = {};
+    this.events.emit('track:evicted', { estimator, entity, why: 'reset' });
+    return true;
+  }
+
+  private summary(est: Estimators, r: TrackRecord, nowS: number): TrackSummary {
+    const track = r.track;
+    return {
+      estimator: est.runtime.name,
+      entity: r.entity,
+      initialized: track.initialized,
+      tS: track.tS,
+      coastS: track.coastS(nowS),
+      stale: track.isStale(nowS),
+      traceP: traceOf(track.P, track.x.length),
+      health: r.trackHealth,
+    };
+  }
+
+  private find(name: string): Estimators | undefined {
+    return this.estimators.find((e) => e.runtime.name === name);
+  }
+}
+
+export { HealthLatch };

@@ -1,0 +1,137 @@
+/**
+ * Turns a track's statistics into a health state with reasons, with hysteresis so alerts do not
+ * flap. Evaluated on a fixed tick (the daemon's health interval, or event time in replays), so
+ * "entered after N bad evaluations" means N ticks whatever the sensors' rates.
+ *
+ * Raw conditions and their severity (defaults in the config schema; reasoning in the README):
+ * - nis-high / nis-low: the windowed NIS mean (full window) outside its two-sided chi-square
+ *   band at the configured confidence; degraded, failed beyond twice the upper bound.
+ * - gate-rate: share of gate rejections in the window above gateRateLimit; failed above
+ *   2.5 × the limit (most of a sensor's data is refused: it is biased, stuck or faulty).
+ * - silent: no measurement for silentFactor × expectedPeriodS; failed past 3× that.
+ * - stale: coasted past coast.maxS (the track no longer claims a valid estimate); failed.
+ * - uncertainty: trace(P) or a state's σ above its configured limit; degraded.
+ * - numerics: a numerical refusal and recovery since the last evaluation; degraded.
+ * - not-initialized: the track has not been able to initialize; degraded.
+ */
+import type { Track } from '../estimation/track.js';
+import type { HealthReason, HealthState } from './health-change.js';
+
+/** Thresholds of the evaluation (from the estimator's health config). */
+export interface HealthThresholds {
+  readonly gateRateLimit: number;
+  readonly silentFactor: number;
+  readonly traceLimit?: number;
+  /** Per state index, the σ limit (NaN: none). */
+  readonly sigmaLimits: Float64Array;
+  readonly enterAfter: number;
+  readonly leaveAfter: number;
+}
+
+const RANK: Record<HealthState, number> = { ok: 0, degraded: 1, failed: 2 };
+
+/** One hysteresis-filtered health state (of a track or of one sensor). */
+export class HealthLatch {
+  state: HealthState = 'ok';
+  reasons: HealthReason[] = [];
+  /** +1 while raw evaluations are worse than `state`, −1 while better, 0 otherwise. */
+  private direction = 0;
+  private streak = 0;
+  /** The state the streak has sustained: least severe seen while worse, most severe while better. */
+  private sustained: HealthState = 'ok';
+
+  /**
+   * Feeds one raw evaluation; returns true when the reported state changed. A worse state is
+   * entered after `enterAfter` consecutive evaluations worse than the current one (the least
+   * severe of them is entered), a better one after `leaveAfter` consecutive better ones.
+   */
+  feed(raw: HealthState, reasons: HealthReason[], t: HealthThresholds): boolean {
+    const d = Math.sign(RANK[raw] - RANK[this.state]);
+    if (d === 0) {
+      this.direction = 0;
+      this.streak = 0;
+      this.reasons = reasons;
+      return false;
+    }
+    if (d !== this.direction) {
+      this.direction = d;
+      this.streak = 0;
+      this.sustained = raw;
+    }
+    this.streak += 1;
+    if (d > 0 ? RANK[raw] < RANK[this.sustained] : RANK[raw] > RANK[this.sustained]) this.sustained = raw;
+    if (this.streak < (d > 0 ? t.enterAfter : t.leaveAfter)) return false;
+    this.state = this.sustained;
+    this.reasons = this.state === 'ok' ? [] : reasons;
+    this.direction = 0;
+    this.streak = 0;
+    return true;
+  }
+}
+
+/** The raw (unfiltered) state and reasons of one sensor of a track at time nowS. */
+export function rawSensorHealth(
+  track: Track, sensor: number, nowS: number, t: HealthThresholds, reasons: HealthReason[],
+): HealthState {
+  const stats = track.stats[sensor]!;
+  const spec = track.settings.sensors[sensor]!;
+  let state: HealthState = 'ok';
+  const raise = (s: HealthState, r: HealthReason) => {
+    reasons.push(r);
+    if (RANK[s] > RANK[state]) state = s;
+  };
+  if (stats.windowFill >= stats.windowN) {
+    const mean = stats.windowedNisMean;
+    if (mean > stats.nisBandUpper) raise(mean > 2 * stats.nisBandUpper ? 'failed' : 'degraded', 'nis-high');
+    else if (mean < stats.nisBandLower) raise('degraded', 'nis-low');
+  }
+  if (stats.gateDecisionCount >= Math.max(4, stats.windowN / 2)) {
+    const rate = stats.gateRejectionRate;
+    if (rate > t.gateRateLimit) raise(rate >= Math.max(0.5, 2.5 * t.gateRateLimit) ? 'failed' : 'degraded', 'gate-rate');
+  }
+  if (spec.expectedPeriodS !== undefined) {
+    const last = Math.max(stats.lastTimeS, stats.lastRejectionTimeS);
+    const since = Number.isFinite(last) ? nowS - last : Number.POSITIVE_INFINITY;
+    const limit = t.silentFactor * spec.expectedPeriodS;
+    if (since > limit) raise(since > 3 * limit ? 'failed' : 'degraded', 'silent');
+  }
+  return state;
+}
+
+/** The raw state and reasons of the track itself (not of its sensors) at time nowS. */
+export function rawTrackHealth(
+  track: Track, nowS: number, t: HealthThresholds, numericsSinceLast: boolean, reasons: HealthReason[],
+): HealthState {
+  let state: HealthState = 'ok';
+  const raise = (s: HealthState, r: HealthReason) => {
+    reasons.push(r);
+    if (RANK[s] > RANK[state]) state = s;
+  };
+  if (!track.initialized) {
+    raise('degraded', 'not-initialized');
+  } else {
+    if (track.isStale(nowS)) raise('failed', 'stale');
+    const n = track.x.length;
+    let trace = 0;
+    let sigmaOver = false;
+    for (let i = 0; i < n; i++) {
+      const v = track.P[i * n + i]!;
+      trace += v;
+      const limit = t.sigmaLimits[i];
+      if (limit !== undefined && !Number.isNaN(limit) && Math.sqrt(Math.max(0, v)) > limit) sigmaOver = true;
+    }
+    if ((t.traceLimit !== undefined && trace > t.traceLimit) || sigmaOver) raise('degraded', 'uncertainty');
+  }
+  if (numericsSinceLast) raise('degraded', 'numerics');
+  return state;
+}
+
+/** The worse of two states. */
+export function worseOf(a: HealthState, b: HealthState): HealthState {
+  return RANK[a] >= RANK[b] ? a : b;
+}
+
+/** Numeric code of a state for metrics (0 ok, 1 degraded, 2 failed). */
+export function healthCode(s: HealthState): number {
+  return RANK[s];
+}
