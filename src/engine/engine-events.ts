@@ -12,8 +12,21 @@ import type { HealthChange } from './health-change.js';
 export interface EngineEventMap {
   /** An estimate was produced: `payload` is the JSON published on MQTT and pushed on WebSocket. */
   'estimate': { estimator: string; entity: string; kind: EstimateKind; topic: string; payload: string; tS: number };
-  'measurement:accepted': { estimator: string; sensor: string; entity: string; late: boolean; latencyS: number };
-  'measurement:rejected': { estimator: string; sensor: string; entity: string | null; topic: string; reason: RejectionReason | DecodeRejection | 'no-route' | 'entity-cap' | 'bad-topic' };
+  /**
+   * A measurement was applied. `values` is the decoder's reused slot (copy it to keep it);
+   * `nis` is NaN for the measurement that initialized the track; `latencyS` is processing time
+   * minus event time (late data makes it large, by design).
+   */
+  'measurement:accepted': {
+    estimator: string; sensor: string; entity: string; late: boolean; latencyS: number;
+    tS: number; nis: number; values: Float64Array; sequence: number | null;
+  };
+  /** A message or measurement was refused; `tS` and `nis` are NaN where unknown. */
+  'measurement:rejected': {
+    estimator: string; sensor: string; entity: string | null; topic: string;
+    reason: RejectionReason | DecodeRejection | 'no-route' | 'entity-cap' | 'bad-topic';
+    tS: number; nis: number; sequence: number | null;
+  };
   'track:created': { estimator: string; entity: string };
   'track:evicted': { estimator: string; entity: string; why: 'idle' | 'reset' };
   'health:changed': HealthChange;

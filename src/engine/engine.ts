@@ -78,7 +78,9 @@ export class Engine implements EngineView {
         this.process(est, sensor, captures, topic, payload, arrivalMs);
       }
     }
-    if (!routed) this.events.emit('measurement:rejected', { estimator: '', sensor: '', entity: null, topic, reason: 'no-route' });
+    if (!routed) {
+      this.events.emit('measurement:rejected', { estimator: '', sensor: '', entity: null, topic, reason: 'no-route', tS: Number.NaN, nis: Number.NaN, sequence: null });
+    }
   }
 
   private process(est: Estimators, sensor: RuntimeSensor, captures: string[], topic: string, payload: Uint8Array, arrivalMs: number): void {
@@ -86,7 +88,9 @@ export class Engine implements EngineView {
     const slot = sensor.slot;
     const arrivalS = arrivalMs / 1000;
     if (!sensor.decoder.decode(payload, arrivalS, slot)) {
-      this.events.emit('measurement:rejected', { estimator: rt.name, sensor: sensor.name, entity: null, topic, reason: slot.reason ?? 'malformed' });
+      this.events.emit('measurement:rejected', {
+        estimator: rt.name, sensor: sensor.name, entity: null, topic, reason: slot.reason ?? 'malformed', tS: Number.NaN, nis: Number.NaN, sequence: null,
+      });
       return;
     }
     const entity = entityKeyOf(captures);
@@ -94,7 +98,9 @@ export class Engine implements EngineView {
     if (record === undefined) {
       record = est.registry.create(entity, captures, rt, arrivalMs);
       if (record === undefined) {
-        this.events.emit('measurement:rejected', { estimator: rt.name, sensor: sensor.name, entity, topic, reason: 'entity-cap' });
+        this.events.emit('measurement:rejected', {
+          estimator: rt.name, sensor: sensor.name, entity, topic, reason: 'entity-cap', tS: slot.timeS, nis: Number.NaN, sequence: slot.hasSequence ? slot.sequence : null,
+        });
         return;
       }
       this.events.emit('track:created', { estimator: rt.name, entity });
@@ -107,15 +113,20 @@ export class Engine implements EngineView {
     }
     const track = record.track;
     const verdict = track.ingest(sensor.index, slot.values, R, slot.timeS, arrivalS);
+    const sequence = slot.hasSequence ? slot.sequence : null;
     if (verdict === 'applied' || verdict === 'initialized' || verdict === 'late-applied') {
       this.accepted += 1;
       this.events.emit('measurement:accepted', {
         estimator: rt.name, sensor: sensor.name, entity, late: verdict === 'late-applied', latencyS: arrivalS - slot.timeS,
+        tS: slot.timeS, nis: verdict === 'initialized' ? Number.NaN : track.stats[sensor.index]!.lastNis, values: slot.values, sequence,
       });
       if (rt.config.publish.mode === 'every-update') this.publishEstimate(est, record, 'filtered', track.tS);
       if (rt.smoothedTopic !== null) this.publishSmoothed(est, record);
     } else {
-      this.events.emit('measurement:rejected', { estimator: rt.name, sensor: sensor.name, entity, topic, reason: verdict });
+      this.events.emit('measurement:rejected', {
+        estimator: rt.name, sensor: sensor.name, entity, topic, reason: verdict, tS: slot.timeS,
+        nis: verdict === 'gate' ? track.stats[sensor.index]!.lastRejectedNis : Number.NaN, sequence,
+      });
     }
   }
 
