@@ -154,6 +154,7 @@ export function chiSquareQuantile(p: number, dof: number): number {
   let x = initialGuess(p, dof, a, logGammaA);
   let lo = 0;
   let hi = Number.POSITIVE_INFINITY;
+  let previousExcess = Number.POSITIVE_INFINITY;
   for (let step = 0; step < MAX_QUANTILE_STEPS; step++) {
     const y = 0.5 * x;
     const tail = incompleteGamma(a, y, logGammaA, upper);
@@ -167,9 +168,17 @@ export function chiSquareQuantile(p: number, dof: number): number {
     // Halley: x − t/(1 − t·f′/(2f)), with f′/f = (a − 1)/x − 1/2 for the chi-square density.
     const halley = 1 - 0.5 * t * ((a - 1) / x - 0.5);
     let next = halley > 0.5 ? x - t / halley : x - t;
-    if (!(next > lo && next < hi)) next = hi === Number.POSITIVE_INFINITY ? 2 * x : 0.5 * (lo + hi);
-    const bracketClosed = hi < Number.POSITIVE_INFINITY && hi - lo <= 4 * EPS * hi;
-    if (Math.abs(next - x) <= 4 * EPS * next || bracketClosed) return next;
+    // Converged: tested before the bracket, because a last step below half an ulp rounds back to
+    // x, which sits on the bracket edge and would otherwise be mistaken for a step outside it.
+    if (Math.abs(next - x) <= 4 * EPS * x) return next;
+    // Bisect when the step leaves the bracket, or when the residual did not at least halve (far
+    // from the root, where the density is tiny, Halley creeps by about 2/|f′/f| per step).
+    const stalled = Math.abs(excess) > 0.5 * previousExcess;
+    if (!(next > lo && next < hi) || (stalled && hi < Number.POSITIVE_INFINITY)) {
+      next = hi === Number.POSITIVE_INFINITY ? 2 * x : 0.5 * (lo + hi);
+    }
+    if (hi < Number.POSITIVE_INFINITY && hi - lo <= 4 * EPS * hi) return next;
+    previousExcess = Math.abs(excess);
     x = next;
   }
   return x;
