@@ -1,5 +1,6 @@
 import type { ChannelFaults } from './fault-plan.js';
 import { inAnyWindow } from './fault-plan.js';
+import { flatString } from './flat-string.js';
 import type { Prng } from './prng.js';
 import type { SimulatedMessage } from './simulated-message.js';
 
@@ -147,5 +148,5 @@ export class MeasurementChannel {
 }
 
 function message(topic: string, payload: string, eventTimeS: number, publishTimeS: number): SimulatedMessage {
-  return { topic, payload, eventTimeS, publishTimeS, kind: 'measurement' };
+  return { topic, payload: flatString(payload), eventTimeS, publishTimeS, kind: 'measurement' };
 }

@@ -1,6 +1,7 @@
 import { compileChannelFaults } from './fault-plan.js';
 import type { GaussMarkovCoefficients } from './gauss-markov.js';
 import { gaussMarkovCoefficients, stepGaussMarkov } from './gauss-markov.js';
+import { flatString } from './flat-string.js';
 import { MeasurementChannel } from './measurement-channel.js';
 import type { Prng } from './prng.js';
 import { createPrng } from './prng.js';
@@ -175,7 +176,7 @@ export function createTankFarmScenario(options: ScenarioOptions): Scenario {
       if (k % TICKS_PER_SECOND === tank.phaseTick) {
         out.push({
           topic: tank.truthTopic,
-          payload: `{"t":${tText},"level":${tank.levelM.toFixed(6)},"level_rate":${tank.rateMps.toFixed(7)},"pressure_bias":${tank.biasM.toFixed(6)}}`,
+          payload: flatString(`{"t":${tText},"level":${tank.levelM.toFixed(6)},"level_rate":${tank.rateMps.toFixed(7)},"pressure_bias":${tank.biasM.toFixed(6)}}`),
           eventTimeS: epochS,
           publishTimeS: epochS,
           kind: 'truth',

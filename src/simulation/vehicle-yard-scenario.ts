@@ -1,6 +1,7 @@
 import type { FaultPlan } from './fault-plan.js';
 import { compileChannelFaults } from './fault-plan.js';
 import { gaussMarkovCoefficients, stepGaussMarkov } from './gauss-markov.js';
+import { flatString } from './flat-string.js';
 import { MeasurementChannel } from './measurement-channel.js';
 import type { Prng } from './prng.js';
 import { createPrng } from './prng.js';
@@ -119,7 +120,7 @@ export function createVehicleYardScenario(options: ScenarioOptions): Scenario {
     const p = frame.toGeodetic(m.eastM, m.northM, 0);
     return {
       topic: v.truthTopic,
-      payload: `{"t":${tText},"east":${m.eastM.toFixed(4)},"north":${m.northM.toFixed(4)},"v_east":${m.vEastMps.toFixed(4)},"v_north":${m.vNorthMps.toFixed(4)},"lat":${p.latDeg.toFixed(9)},"lon":${p.lonDeg.toFixed(9)}}`,
+      payload: flatString(`{"t":${tText},"east":${m.eastM.toFixed(4)},"north":${m.northM.toFixed(4)},"v_east":${m.vEastMps.toFixed(4)},"v_north":${m.vNorthMps.toFixed(4)},"lat":${p.latDeg.toFixed(9)},"lon":${p.lonDeg.toFixed(9)}}`),
       eventTimeS: epochS,
       publishTimeS: epochS,
       kind: 'truth',
