@@ -7,8 +7,15 @@
  * Ground-truth messages are never faulted.
  */
 
+import { targets } from './fault-target.js';
+
+// Re-exported so callers (the CLI, offline tools) need one import for everything about plans.
+/** Parse and write the compact command-line form. */
 export { parseFaultSpec, formatFaultSpec } from './parse-fault-spec.js';
-export { checkFault } from './check-fault.js';
+/** Validate one fault or a whole plan against a scenario's streams. */
+export { checkFault, checkPlan } from './check-fault.js';
+/** Match fault targets to entity and sensor names. */
+export { matchesPattern, targets } from './fault-target.js';
 
 /** Which sensor streams a fault applies to. */
 export interface FaultTarget {
@@ -98,17 +105,6 @@ export interface ChannelFaults {
   readonly outageWindows: readonly FaultWindow[];
   /** The last matching random-outage fault, if any. */
   readonly randomOutages: RandomOutages | undefined;
-}
-
-/** True when `pattern` (exact, `*`, or prefix ending in `*`) matches `name`. */
-export function matchesPattern(pattern: string, name: string): boolean {
-  if (pattern === '*' || pattern === name) return true;
-  return pattern.endsWith('*') && name.startsWith(pattern.slice(0, -1));
-}
-
-/** True when `fault` targets the stream `sensor` of `entity`. */
-export function targets(fault: FaultTarget, entity: string, sensor: string): boolean {
-  return matchesPattern(fault.entity, entity) && matchesPattern(fault.sensor, sensor);
 }
 
 /** Collects the faults of `plan` that apply to one sensor stream. */

@@ -2,6 +2,7 @@ import type { Scenario, ScenarioName, ScenarioOptions } from './simulated-messag
 import { createTankFarmScenario } from './tank-farm-scenario.js';
 import { createVehicleYardScenario } from './vehicle-yard-scenario.js';
 
+/** The scenario types, re-exported so one import serves callers. */
 export type { Scenario, ScenarioName, ScenarioOptions, SimulatedMessage } from './simulated-message.js';
 
 /** Names accepted by `createScenario`, for command-line help and validation. */

@@ -25,8 +25,9 @@ export const ECHO_SPIKE_PROBABILITY = 0.005;
 export const ECHO_SPIKE_RANGE_M: readonly [number, number] = [0.2, 0.6];
 /** Base pressure transducer noise, 1 sigma (m of head). */
 export const PRESSURE_SIGMA_M = 0.005;
-/** Pressure bias Gauss–Markov time constant (s) and steady-state sigma (m). */
+/** Pressure bias Gauss–Markov time constant (s). */
 export const PRESSURE_BIAS_TAU_S = 3600;
+/** Pressure bias steady-state sigma (m of head). */
 export const PRESSURE_BIAS_SIGMA_M = 0.03;
 
 const RAMP_MPS2 = 1e-4; // 0 → 4 mm/s in 40 s: pump start and stop are slow, not steps

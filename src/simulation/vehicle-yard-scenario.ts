@@ -25,7 +25,10 @@ export const YARD_SENSORS = ['gnss', 'wheel'] as const;
 export const DEMO_VEHICLES: readonly string[] = Array.from({ length: 12 }, (_, i) => `tug-${String(i + 1).padStart(2, '0')}`);
 /** Wheel-speed noise, 1 sigma (m/s). Additive Gaussian, so a stopped tractor may read slightly negative. */
 export const WHEEL_SIGMA_MPS = 0.1;
-/** Range of the reported horizontal accuracy `hacc` (m). */
+/**
+ * Range of the reported horizontal accuracy `hacc` (m). It is the 1-sigma of each horizontal
+ * axis: east and north errors are independent N(0, hacc²), so a filter should use R = hacc²·I.
+ */
 export const HACC_RANGE_M: readonly [number, number] = [1.5, 4];
 
 /**
