@@ -1,4 +1,5 @@
-import type { Fault, FaultWindow } from './fault-plan.js';
+import type { Fault, FaultPlan, FaultWindow } from './fault-plan.js';
+import { matchesPattern } from './fault-target.js';
 
 /** Problems with one fault's numbers (empty when valid), worded for a person editing a plan. */
 export function checkFault(fault: Fault): string[] {
@@ -49,5 +50,27 @@ export function checkFault(fault: Fault): string[] {
       issues.push(`unknown fault kind in ${JSON.stringify(unreachable)}`);
     }
   }
+  return issues;
+}
+
+/**
+ * Problems with a whole plan for a scenario: each fault's numbers, and whether its target
+ * matches at least one of the scenario's sensor streams (a fault that matches nothing is
+ * almost always a typing slip in an entity or sensor name).
+ */
+export function checkPlan(
+  plan: FaultPlan,
+  entities: readonly string[],
+  sensors: readonly string[],
+): string[] {
+  const issues: string[] = [];
+  plan.forEach((fault, i) => {
+    const label = `fault ${i + 1} (${fault.kind} ${fault.entity}/${fault.sensor})`;
+    for (const problem of checkFault(fault)) issues.push(`${label}: ${problem}`);
+    const hitsEntity = entities.some((e) => matchesPattern(fault.entity, e));
+    const hitsSensor = sensors.some((s) => matchesPattern(fault.sensor, s));
+    if (!hitsEntity) issues.push(`${label}: no entity matches "${fault.entity}"`);
+    if (!hitsSensor) issues.push(`${label}: no sensor matches "${fault.sensor}" (sensors: ${sensors.join(', ')})`);
+  });
   return issues;
 }
