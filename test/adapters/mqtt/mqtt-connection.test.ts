@@ -1,0 +1,169 @@
+import type { IClientOptions, MqttClient } from 'mqtt';
+import mqtt from 'mqtt';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import { createMqttConnection, type MqttConnection, type MqttConnectionOptions } from '../../../src/adapters/mqtt/mqtt-connection.js';
+import {
+  connectRawClient,
+  endRawClient,
+  nextMessage,
+  testBrokerConfig,
+  uniqueTopicPrefix,
+} from '../../helpers/mqtt-fixtures.js';
+import { createRecordingLogger } from '../../helpers/recording-logger.js';
+import { startTestBroker, type TestBroker } from '../../helpers/test-broker.js';
+
+let broker: TestBroker;
+let observer: MqttClient;
+const connections: MqttConnection[] = [];
+
+beforeAll(async () => {
+  broker = await startTestBroker();
+  observer = await connectRawClient(broker.url, { protocolVersion: broker.protocolVersion });
+});
+afterEach(async () => {
+  await Promise.all(connections.splice(0).map((c) => c.stop({ finalStatus: false })));
+});
+afterAll(async () => {
+  await endRawClient(observer);
+  await broker?.stop();
+});
+
+function connection(overrides: Partial<MqttConnectionOptions> & { brokerOverrides?: Record<string, unknown> } = {}): MqttConnection {
+  const { brokerOverrides, ...rest } = overrides;
+  const c = createMqttConnection({
+    broker: testBrokerConfig(broker.url, { protocolVersion: broker.protocolVersion, ...brokerOverrides }),
+    clientId: `statecast-test-${connections.length}-${Math.random().toString(16).slice(2, 8)}`,
+    logger: createRecordingLogger(),
+    subscriptions: [],
+    onMessage: () => {},
+    ...rest,
+  });
+  connections.push(c);
+  return c;
+}
+
+describe('mqtt connection', () => {
+  it('delivers subscribed messages with the arrival time read from its clock', async () => {
+    const prefix = uniqueTopicPrefix('tank-farm');
+    const received: Array<{ topic: string; payload: string; arrivalMs: number }> = [];
+    const arrived = new Promise<void>((resolve) => {
+      const c = connection({
+        subscriptions: [{ filter: `${prefix}/+/level`, qos: 1 }],
+        now: () => 1_700_000_000_123,
+        onMessage: (topic, payload, arrivalMs) => {
+          received.push({ topic, payload: payload.toString(), arrivalMs });
+          resolve();
+        },
+      });
+      c.on('subscribed', () => void observer.publish(`${prefix}/tank-a/level`, '{"levelM":3.2}', { qos: 1 }));
+      void c.start();
+    });
+    await arrived;
+    expect(received).toEqual([{ topic: `${prefix}/tank-a/level`, payload: '{"levelM":3.2}', arrivalMs: 1_700_000_000_123 }]);
+  });
+
+  it('publishes outgoing messages with the requested QoS and retain flag', async () => {
+    const topic = `${uniqueTopicPrefix('vehicle-yard')}/tug-01/estimate`;
+    await observer.subscribeAsync(topic, { qos: 1 });
+    const c = connection();
+    await c.start();
+    const got = new Promise<{ payload: string; qos: number }>((resolve) => {
+      observer.on('message', (t, payload, packet) => {
+        if (t === topic) resolve({ payload: payload.toString(), qos: packet.qos });
+      });
+    });
+    c.publish(topic, '{"xM":12.5}', { qos: 1, retain: false });
+    expect(await got).toEqual({ payload: '{"xM":12.5}', qos: 1 });
+  });
+
+  it('holds messages published before the first connection and sends them once connected', async () => {
+    const topic = `${uniqueTopicPrefix('tank-farm')}/tank-b/estimate`;
+    await observer.subscribeAsync(topic, { qos: 1 });
+    const got = nextMessage(observer, topic);
+    const c = connection({ waitForConnect: false });
+    c.publish(topic, '{"levelM":1.5}', { qos: 1 });
+    await c.start();
+    expect(await got).toBe('{"levelM":1.5}');
+  });
+
+  it('publishes a retained online status with the connect time on connect', async () => {
+    const statusTopic = `${uniqueTopicPrefix('tank-farm')}/status`;
+    const c = connection({ statusTopic, now: () => Date.UTC(2031, 0, 2, 3, 4, 5) });
+    await c.start();
+    // A client subscribing after the fact still sees it: the status is retained.
+    const late = await connectRawClient(broker.url, { protocolVersion: broker.protocolVersion });
+    try {
+      const status = nextMessage(late, statusTopic);
+      await late.subscribeAsync(statusTopic, { qos: 1 });
+      expect(JSON.parse(await status)).toEqual({ status: 'online', since: '2031-01-02T03:04:05.000Z' });
+    } finally {
+      await endRawClient(late);
+    }
+  });
+
+  it('leaves the last will offline on the status topic when the connection is lost without a goodbye', async () => {
+    const statusTopic = `${uniqueTopicPrefix('vehicle-yard')}/status`;
+    let client: MqttClient | undefined;
+    const c = connection({
+      statusTopic,
+      connectClient: (url: string, options: IClientOptions) => (client = mqtt.connect(url, options)),
+    });
+    await c.start();
+    await observer.subscribeAsync(statusTopic, { qos: 1 });
+    const offline = nextMessage(observer, statusTopic, (p) => p.includes('offline'));
+    const backOnline = offline.then(() => nextMessage(observer, statusTopic, (p) => p.includes('online')));
+    client?.stream.destroy();
+    expect(JSON.parse(await offline)).toEqual({ status: 'offline' });
+    // ...and the connection comes back by itself and says so.
+    expect(JSON.parse(await backOnline)).toMatchObject({ status: 'online' });
+  });
+
+  it('publishes a retained offline status on stop when asked for a final status', async () => {
+    const statusTopic = `${uniqueTopicPrefix('tank-farm')}/status`;
+    const c = connection({ statusTopic });
+    await c.start();
+    await observer.subscribeAsync(statusTopic, { qos: 1 });
+    const offline = nextMessage(observer, statusTopic, (p) => p.includes('offline'));
+    await c.stop({ finalStatus: true });
+    expect(JSON.parse(await offline)).toEqual({ status: 'offline' });
+    expect(c.connected).toBe(false);
+  });
+
+  it('drops the oldest outgoing messages past its bound while offline and counts them', async () => {
+    const topic = `${uniqueTopicPrefix('vehicle-yard')}/tug-02/estimate`;
+    await observer.subscribeAsync(topic, { qos: 1 });
+    const c = connection({ waitForConnect: false, maxQueuedOutgoing: 2 });
+    for (let seq = 0; seq < 5; seq += 1) c.publish(topic, String(seq), { qos: 1 });
+    expect(c.droppedCount).toBe(3);
+    const got: string[] = [];
+    const both = new Promise<void>((resolve) =>
+      observer.on('message', (t, p) => {
+        if (t === topic && got.push(p.toString()) === 2) resolve();
+      }),
+    );
+    await c.start();
+    await both;
+    expect(got).toEqual(['3', '4']);
+  });
+
+  it('never logs the password', async () => {
+    const logger = createRecordingLogger();
+    const c = connection({
+      logger,
+      brokerOverrides: { url: broker.url.replace('mqtt://', 'mqtt://yard-ops:url-secret-7@'), username: 'yard-ops', password: 'field-secret-9' },
+    });
+    await c.start();
+    await c.stop({ finalStatus: true });
+    const logged = JSON.stringify(logger.entries);
+    expect(logger.entries.length).toBeGreaterThan(0);
+    expect(logged).not.toContain('field-secret-9');
+    expect(logged).not.toContain('url-secret-7');
+  });
+
+  it('rejects start() when stopped before the first connection', async () => {
+    const c = connection({ brokerOverrides: { url: 'mqtt://127.0.0.1:1' } });
+    const started = c.start();
+    await c.stop({ finalStatus: true });
+    await expect(started).rejects.toThrow(/stopped before it connected/);
+  });
+});
