@@ -16,6 +16,7 @@ import {
 import { checkEstimator } from './estimator-checks.js';
 import { modelSchema } from './model-schema.js';
 import { sensorSchema } from './sensor-schema.js';
+import { checkTunePaths, tuneSchema } from './tune-schema.js';
 
 /** Filter family; `ukf` tunes the unscented transform (alpha 1e-3…1, beta ≥ 0, kappa). */
 export const filterSchema = z.strictObject({
@@ -100,7 +101,8 @@ export const publishSchema = z
  * An estimator. `history`: how far back (s, entries) a track keeps its past to re-filter late
  * measurements; `futureToleranceS`: how far ahead of the clock a time stamp may be; `coast.maxS`:
  * how long a track predicts without measurements before it is marked stale; `smoothing.lagSteps`:
- * fixed-lag smoothing depth (0 = off); `entities`: track cap and idle eviction (s).
+ * fixed-lag smoothing depth (0 = off); `entities`: track cap and idle eviction (s); `tune`: the
+ * noise parameters `statecast tune` may fit (see tune-schema; the daemon ignores it).
  */
 export const estimatorFieldsSchema = z.strictObject({
   name: identifierSchema,
@@ -116,10 +118,11 @@ export const estimatorFieldsSchema = z.strictObject({
   health: healthSchema.prefault({}),
   publish: publishSchema.prefault({}),
   sensors: z.record(identifierSchema, sensorSchema),
+  tune: tuneSchema.exactOptional(),
 });
 
 /** An estimator with its cross-field checks (states, wildcards, topics; see estimator-checks). */
-export const estimatorSchema = estimatorFieldsSchema.superRefine(checkEstimator);
+export const estimatorSchema = estimatorFieldsSchema.superRefine(checkEstimator).superRefine(checkTunePaths);
 
 /** A validated estimator. */
 export type EstimatorConfig = z.output<typeof estimatorSchema>;
