@@ -3,6 +3,7 @@ import fc from 'fast-check';
 import { Estimator, type EstimatorDefinition, type FilterKind } from '../../src/estimation/estimator.js';
 import { ConstantVelocityModel } from '../../src/estimation/models/constant-velocity-model.js';
 import { LinearMeasurement } from '../../src/estimation/measurements/linear-measurement.js';
+import { decodeCheckpointNumber, encodeCheckpointNumber } from '../../src/estimation/checkpoint-number.js';
 import { restoreTrack, trackToCheckpoint, type TrackCheckpoint } from '../../src/estimation/track-checkpoint.js';
 import type { Track } from '../../src/estimation/track.js';
 
@@ -107,6 +108,25 @@ describe('track checkpoint', () => {
     expect(track.initialized).toBe(false);
     expect(track.tS).toBeNaN();
     expect(track.history.baseTimeS).toBe(Number.NEGATIVE_INFINITY);
+  });
+
+  it.each([
+    [Number.NaN, 'NaN'],
+    [Number.POSITIVE_INFINITY, 'Infinity'],
+    [Number.NEGATIVE_INFINITY, '-Infinity'],
+    [-0, '-0'],
+    [0, 0],
+    [-1.25e-300, -1.25e-300],
+  ])('encodes %s as %j and decodes it back exactly', (value, encoded) => {
+    expect(encodeCheckpointNumber(value)).toBe(encoded);
+    expect(Object.is(decodeCheckpointNumber(throughJson(encoded)), value)).toBe(true);
+  });
+
+  it('restores a negative zero in the state as a negative zero', () => {
+    const est = estimator();
+    const track = fed(est);
+    track.x[3] = -0;
+    expect(Object.is(restored(est, trackToCheckpoint(track)).x[3], -0)).toBe(true);
   });
 
   it.each<FilterKind>(['kf', 'ekf', 'ukf'])('continues exactly as the original would (%s)', (filter) => {
