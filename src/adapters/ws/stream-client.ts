@@ -11,6 +11,9 @@ import { ClientSubscription } from './client-subscription.js';
 import { CoalescingSendQueue, type PushOutcome } from './coalescing-send-queue.js';
 import { MessageRateLimiter } from './message-rate-limiter.js';
 
+/** Queue key of the snapshot; estimate keys always contain NUL, this one never does. */
+const SNAPSHOT_KEY = 'snapshot';
+
 /** Per-client limits, taken from the server's options. */
 export interface StreamClientSettings {
   readonly maxQueued: number;
@@ -101,7 +104,8 @@ export class StreamClient {
     this.subscription = subscription;
     this.totals.coalesced += this.queue.supersedeKeyed();
     this.sendInOrder(subscribedFrame);
-    this.sendInOrder(snapshotFrame);
+    // Keyed, so a client that re-subscribes while stalled holds one snapshot, not one per request.
+    this.sendLatest(SNAPSHOT_KEY, snapshotFrame);
   }
 
   /** Sends a WebSocket ping for the heartbeat. */

@@ -124,6 +124,19 @@ describe('EstimateStreamServer with a stalled client', () => {
     expect(frames).toBeLessThan(ESTIMATES);
   });
 
+  it('holds one snapshot for a stalled client that re-subscribes again and again', async () => {
+    const rig = await stalledRig();
+    rig.view.latest = Array.from({ length: ENTITIES }, (_, e) => ({
+      estimator: 'yard', entity: entityOf(e), kind: 'filtered' as const, payload: `{"entity":"${entityOf(e)}"}`,
+    }));
+    await flood(rig);
+    const readsBefore = rig.view.latestReads;
+    for (let i = 0; i < 40; i++) rig.raw.sendText(`{"op":"subscribe","id":${i},"estimators":["yard"]}`);
+    await rig.view.readsReached(readsBefore + 40);
+    // 40 acknowledgements in order plus the newest snapshot; the queued estimates were superseded.
+    expect(clientStats(rig).queued).toBe(41);
+  });
+
   it('keeps heap and buffer growth bounded while the client stalls', async () => {
     setFlagsFromString('--expose-gc');
     const gc = runInNewContext('gc') as () => void;

@@ -38,8 +38,25 @@ export class FakeEngineView implements EngineView {
   resetTrack(): boolean {
     return false;
   }
+  /** How often latestEstimates() has been read: one read per subscribe handled. */
+  latestReads = 0;
+  private readsWaiter: { count: number; resolve: () => void } | null = null;
+
   latestEstimates(): Iterable<LatestEstimate> {
+    this.latestReads++;
+    if (this.readsWaiter !== null && this.latestReads >= this.readsWaiter.count) {
+      this.readsWaiter.resolve();
+      this.readsWaiter = null;
+    }
     return this.latest;
+  }
+
+  /** Resolves once latestEstimates() has been read `count` times in all. */
+  readsReached(count: number): Promise<void> {
+    if (this.latestReads >= count) return Promise.resolve();
+    return new Promise((resolve) => {
+      this.readsWaiter = { count, resolve };
+    });
   }
   trackCount(): number {
     return this.latest.length;
