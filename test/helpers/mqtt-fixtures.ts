@@ -1,6 +1,7 @@
 import { randomUUID } from 'node:crypto';
 import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
 import type { ResolvedBrokerConfig } from '../../src/adapters/mqtt/mqtt-client-options.js';
+import type { MqttConnection } from '../../src/adapters/mqtt/mqtt-connection.js';
 import { brokerSchema } from '../../src/config/service-schema.js';
 
 /** Broker settings for tests: the schema's defaults with quick reconnects; `overrides.url` wins over `url`. */
@@ -51,4 +52,9 @@ export function nextMessage(client: MqttClient, topic: string, match: (payload: 
     };
     client.on('message', onMessage);
   });
+}
+
+/** Resolves the next time `connection` emits `event` (a connection is not a Node EventEmitter). */
+export function nextEvent(connection: MqttConnection, event: 'connect' | 'subscribed' | 'disconnect'): Promise<void> {
+  return new Promise((resolve) => connection.once(event, () => resolve()));
 }

@@ -91,6 +91,7 @@ export interface MqttConnection {
   /** Outgoing messages dropped because the bounded queue was full or stop() gave up on them. */
   readonly droppedCount: number;
   on<E extends keyof MqttConnectionEvents>(event: E, listener: (...args: MqttConnectionEvents[E]) => void): this;
+  once<E extends keyof MqttConnectionEvents>(event: E, listener: (...args: MqttConnectionEvents[E]) => void): this;
   off<E extends keyof MqttConnectionEvents>(event: E, listener: (...args: MqttConnectionEvents[E]) => void): this;
 }
 
@@ -262,6 +263,10 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
     },
     on(event, listener) {
       events.on(event, listener as never);
+      return connection;
+    },
+    once(event, listener) {
+      events.once(event, listener as never);
       return connection;
     },
     off(event, listener) {
