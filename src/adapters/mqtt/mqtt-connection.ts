@@ -12,57 +12,16 @@
  * DISCONNECT; and the same offline payload published by `stop({ finalStatus: true })`.
  */
 import { EventEmitter } from 'node:events';
-import mqtt, { type IClientOptions, type IConnackPacket, type ISubscriptionMap, type MqttClient } from 'mqtt';
+import mqtt, { type IConnackPacket, type ISubscriptionMap, type MqttClient } from 'mqtt';
+import { connackRefusal } from './connack-refusal.js';
+import { mqttClientOptions, OFFLINE_STATUS, readTlsMaterial, redactBrokerUrl } from './mqtt-client-options.js';
+import type { MqttConnectionOptions, MqttPublishOptions } from './mqtt-connection-options.js';
 import { createOutgoingQueue, type OutgoingMessage } from './outgoing-queue.js';
-import {
-  mqttClientOptions,
-  OFFLINE_STATUS,
-  readTlsMaterial,
-  redactBrokerUrl,
-  type ResolvedBrokerConfig,
-} from './mqtt-client-options.js';
 import { reconnectDelayMs } from './reconnect-backoff.js';
 
+export type { MqttConnectionOptions, MqttLogger, MqttPublishOptions, MqttSubscription } from './mqtt-connection-options.js';
+
 const STOPPED_BEFORE_CONNECT = 'the MQTT connection was stopped before it connected';
-
-/** A pino-like logger: `(fields, message)`. */
-export interface MqttLogger {
-  info(fields: object, message: string): void;
-  warn(fields: object, message: string): void;
-  error(fields: object, message: string): void;
-  debug(fields: object, message: string): void;
-}
-
-/** One topic filter to subscribe to. */
-export interface MqttSubscription {
-  readonly filter: string;
-  readonly qos: 0 | 1 | 2;
-}
-
-/** Options of {@link createMqttConnection}. */
-export interface MqttConnectionOptions {
-  readonly broker: ResolvedBrokerConfig;
-  /** Stable across restarts, so the broker finds the session again. */
-  readonly clientId: string;
-  readonly logger: MqttLogger;
-  readonly subscriptions: readonly MqttSubscription[];
-  /** Synchronous; `arrivalMs` is the clock reading when the message arrived. Must not throw. */
-  readonly onMessage: (topic: string, payload: Buffer, arrivalMs: number) => void;
-  /** Retained status topic and last will. Default `broker.statusTopic`. */
-  readonly statusTopic?: string;
-  /** Let `start()` wait for the first connection. Default true; false resolves at once. */
-  readonly waitForConnect?: boolean;
-  /** Outgoing messages held while offline or flow-controlled before the oldest is dropped. Default 10000. */
-  readonly maxQueuedOutgoing?: number;
-  /** Upper bound for `stop()` to flush outgoing messages and the final status. Default 5000 ms. */
-  readonly stopTimeoutMs?: number;
-  /** Clock in epoch milliseconds. Default `Date.now`. */
-  readonly now?: () => number;
-  /** Jitter source in [0, 1) for the reconnect backoff. Default `Math.random`. */
-  readonly random?: () => number;
-  /** Creates the mqtt.js client. Default `mqtt.connect`; tests wrap it to reach the socket. */
-  readonly connectClient?: (url: string, options: IClientOptions) => MqttClient;
-}
 
 /** Events of an {@link MqttConnection}. */
 export interface MqttConnectionEvents {
@@ -73,17 +32,15 @@ export interface MqttConnectionEvents {
   error: [error: Error];
 }
 
-/** Options of one publish. Default QoS 0, not retained. */
-export interface MqttPublishOptions {
-  readonly qos?: 0 | 1 | 2;
-  readonly retain?: boolean;
-}
-
 /** A running or stopped connection; see {@link createMqttConnection}. */
 export interface MqttConnection {
   /** Connects. Idempotent. Rejects when waiting and the broker refuses the CONNECT. */
   start(): Promise<void>;
-  /** Disconnects for good, publishing the offline status first when `finalStatus`. Idempotent. */
+  /**
+   * Disconnects for good: flushes outgoing messages (up to `stopTimeoutMs`), publishes the
+   * retained offline status when `finalStatus` (default true), then sends DISCONNECT. Without a
+   * final status the retained status is left as it was. Idempotent.
+   */
   stop(options?: { finalStatus: boolean }): Promise<void>;
   /** Queues a message; never throws. Dropped (and counted) past `maxQueuedOutgoing`. */
   publish(topic: string, payload: string | Buffer, options?: MqttPublishOptions): void;
@@ -275,15 +232,6 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
     },
   };
   return connection;
-}
-
-/** A refused CONNACK as an error an operator can act on. */
-function connackRefusal(broker: ResolvedBrokerConfig, err: Error & { code?: unknown }): Error {
-  const hint =
-    err.code === 1 && broker.protocolVersion === 5
-      ? ' The broker does not accept MQTT 5 (the embedded broker speaks 3.1.1 only): set broker.protocolVersion to 4.'
-      : '';
-  return new Error(`the MQTT broker at ${redactBrokerUrl(broker.url)} refused the connection: ${err.message}.${hint}`, { cause: err });
 }
 
 function publishAsync(c: MqttClient, topic: string, payload: string): Promise<void> {

@@ -5,10 +5,12 @@ import { createMqttConnection, type MqttConnection, type MqttConnectionOptions }
 import {
   connectRawClient,
   endRawClient,
+  nextEvent,
   nextMessage,
   testBrokerConfig,
   uniqueTopicPrefix,
 } from '../../helpers/mqtt-fixtures.js';
+import { mosquittoBinary } from '../../helpers/mosquitto.js';
 import { createRecordingLogger } from '../../helpers/recording-logger.js';
 import { startTestBroker, type TestBroker } from '../../helpers/test-broker.js';
 
@@ -158,6 +160,76 @@ describe('mqtt connection', () => {
     expect(logger.entries.length).toBeGreaterThan(0);
     expect(logged).not.toContain('field-secret-9');
     expect(logged).not.toContain('url-secret-7');
+  });
+
+  it('keeps delivering after the message handler throws', async () => {
+    const prefix = uniqueTopicPrefix('tank-farm');
+    const logger = createRecordingLogger();
+    const second = new Promise<string>((resolve) => {
+      const c = connection({
+        logger,
+        subscriptions: [{ filter: `${prefix}/#`, qos: 1 }],
+        onMessage: (_topic, payload) => {
+          if (payload.toString() === 'bad') throw new Error('malformed reading');
+          resolve(payload.toString());
+        },
+      });
+      c.on('subscribed', () => {
+        observer.publish(`${prefix}/tank-a/level`, 'bad', { qos: 1 });
+        observer.publish(`${prefix}/tank-a/level`, 'good', { qos: 1 });
+      });
+      void c.start();
+    });
+    expect(await second).toBe('good');
+    expect(logger.find('the message handler threw')).toHaveLength(1);
+  });
+
+  // Session expiry is an MQTT 5 feature: only Mosquitto can show a session that ends at disconnect.
+  it.skipIf(mosquittoBinary() === null)('subscribes again after reconnecting to a broker that kept no session', async () => {
+    const prefix = uniqueTopicPrefix('vehicle-yard');
+    let client: MqttClient | undefined;
+    const sessions: boolean[] = [];
+    let onReading: (payload: string) => void = () => {};
+    const c = connection({
+      brokerOverrides: { sessionExpiryS: 0 },
+      subscriptions: [{ filter: `${prefix}/#`, qos: 1 }],
+      onMessage: (_topic, payload) => onReading(payload.toString()),
+      connectClient: (url: string, options: IClientOptions) => (client = mqtt.connect(url, options)),
+    });
+    c.on('connect', ({ sessionPresent }) => sessions.push(sessionPresent));
+    const firstSubscription = nextEvent(c, 'subscribed');
+    await c.start();
+    await firstSubscription;
+    const resubscribed = nextEvent(c, 'subscribed');
+    client?.stream.destroy();
+    await resubscribed;
+    const reading = new Promise<string>((resolve) => (onReading = resolve));
+    observer.publish(`${prefix}/tug-05/position`, 'after', { qos: 1 });
+    expect(await reading).toBe('after');
+    expect(sessions).toEqual([false, false]);
+  });
+
+  it('does not subscribe again when the broker kept the session', async () => {
+    const prefix = uniqueTopicPrefix('vehicle-yard');
+    let client: MqttClient | undefined;
+    let subscriptions = 0;
+    let onReading: (payload: string) => void = () => {};
+    const c = connection({
+      subscriptions: [{ filter: `${prefix}/#`, qos: 1 }],
+      onMessage: (_topic, payload) => onReading(payload.toString()),
+      connectClient: (url: string, options: IClientOptions) => (client = mqtt.connect(url, options)),
+    });
+    c.on('subscribed', () => (subscriptions += 1));
+    const firstSubscription = nextEvent(c, 'subscribed');
+    await c.start();
+    await firstSubscription;
+    const reconnected = new Promise<boolean>((resolve) => c.once('connect', ({ sessionPresent }) => resolve(sessionPresent)));
+    client?.stream.destroy();
+    expect(await reconnected).toBe(true);
+    const reading = new Promise<string>((resolve) => (onReading = resolve));
+    observer.publish(`${prefix}/tug-06/position`, 'kept', { qos: 1 });
+    expect(await reading).toBe('kept');
+    expect(subscriptions).toBe(1);
   });
 
   it('rejects start() when stopped before the first connection', async () => {
