@@ -71,6 +71,12 @@ export const healthSchema = z.strictObject({
   silentFactor: z.number().gt(1).default(3),
   traceLimit: positiveSchema.exactOptional(),
   sigmaLimits: z.record(stateNameSchema, positiveSchema).exactOptional(),
+  /**
+   * Whether a windowed NIS mean below its band (noise overstated: the filter is pessimistic,
+   * its σ too wide) degrades health. Default true; a fast sensor on a model that is rough at
+   * short time scales (10 Hz wheel speed on constant velocity) may warrant false.
+   */
+  flagLowNis: z.boolean().default(true),
 });
 
 /**

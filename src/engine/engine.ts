@@ -34,7 +34,7 @@ interface Estimators {
 
 /** The engine; see the module comment. */
 export class Engine implements EngineView {
-  readonly events = new EngineEvents();
+  readonly events: EngineEvents;
   private estimators: Estimators[] = [];
   private received = 0;
   private accepted = 0;
@@ -43,7 +43,13 @@ export class Engine implements EngineView {
   private readonly reasonScratch: HealthReason[] = [];
 
   /** Builds every estimator from validated config (throws on a config the core cannot run). */
-  constructor(configs: readonly DeepReadonly<EstimatorConfig>[], private readonly publisher: EstimatePublisher) {
+  constructor(
+    configs: readonly DeepReadonly<EstimatorConfig>[],
+    private readonly publisher: EstimatePublisher,
+    events?: EngineEvents,
+  ) {
+    // A reloaded engine takes over its predecessor's event bus, so subscribers stay attached.
+    this.events = events ?? new EngineEvents();
     this.estimators = configs.map((c) => ({ runtime: buildEstimatorRuntime(c), registry: new TrackRegistry(c.entities.max) }));
   }
 
@@ -106,6 +112,7 @@ export class Engine implements EngineView {
       this.events.emit('track:created', { estimator: rt.name, entity });
     }
     record.lastSeenMs = arrivalMs;
+    record.lastHeardMs[sensor.index] = arrivalMs;
     let R: Float64Array | null = null;
     if (slot.hasCovariance) {
       R = slot.covariance;
@@ -187,7 +194,7 @@ export class Engine implements EngineView {
         const trackReasons: HealthReason[] = [];
         for (let s = 0; s < record.sensorHealth.length; s++) {
           reasons.length = 0;
-          const raw = rawSensorHealth(track, s, nowS, t, reasons);
+          const raw = rawSensorHealth(track, s, nowS, t, reasons, record.lastHeardMs[s]! / 1000);
           const latch = record.sensorHealth[s]!;
           const from = latch.state;
           if (latch.feed(raw, reasons.slice(), t)) {

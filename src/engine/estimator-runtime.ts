@@ -119,6 +119,7 @@ export function buildEstimatorRuntime(cfg: DeepReadonly<EstimatorConfig>): Estim
       sigmaLimits,
       enterAfter: cfg.health.enterAfter,
       leaveAfter: cfg.health.leaveAfter,
+      flagLowNis: cfg.health.flagLowNis,
     },
   };
 }

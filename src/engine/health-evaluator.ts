@@ -8,7 +8,7 @@
  *   band at the configured confidence; degraded, failed beyond twice the upper bound.
  * - gate-rate: share of gate rejections in the window above gateRateLimit; failed above
  *   2.5 × the limit (most of a sensor's data is refused: it is biased, stuck or faulty).
- * - silent: no measurement for silentFactor × expectedPeriodS; failed past 3× that.
+ * - silent: no message arrived for silentFactor × expectedPeriodS; failed past 3× that.
  * - stale: coasted past coast.maxS (the track no longer claims a valid estimate); failed.
  * - uncertainty: trace(P) or a state's σ above its configured limit; degraded.
  * - numerics: a numerical refusal and recovery since the last evaluation; degraded.
@@ -26,6 +26,8 @@ export interface HealthThresholds {
   readonly sigmaLimits: Float64Array;
   readonly enterAfter: number;
   readonly leaveAfter: number;
+  /** Whether a NIS mean below its band counts (see the health config's flagLowNis). */
+  readonly flagLowNis: boolean;
 }
 
 const RANK: Record<HealthState, number> = { ok: 0, degraded: 1, failed: 2 };
@@ -71,7 +73,7 @@ export class HealthLatch {
 
 /** The raw (unfiltered) state and reasons of one sensor of a track at time nowS. */
 export function rawSensorHealth(
-  track: Track, sensor: number, nowS: number, t: HealthThresholds, reasons: HealthReason[],
+  track: Track, sensor: number, nowS: number, t: HealthThresholds, reasons: HealthReason[], lastHeardS: number,
 ): HealthState {
   const stats = track.stats[sensor]!;
   const spec = track.settings.sensors[sensor]!;
@@ -83,15 +85,16 @@ export function rawSensorHealth(
   if (stats.windowFill >= stats.windowN) {
     const mean = stats.windowedNisMean;
     if (mean > stats.nisBandUpper) raise(mean > 2 * stats.nisBandUpper ? 'failed' : 'degraded', 'nis-high');
-    else if (mean < stats.nisBandLower) raise('degraded', 'nis-low');
+    else if (t.flagLowNis && mean < stats.nisBandLower) raise('degraded', 'nis-low');
   }
   if (stats.gateDecisionCount >= Math.max(4, stats.windowN / 2)) {
     const rate = stats.gateRejectionRate;
     if (rate > t.gateRateLimit) raise(rate >= Math.max(0.5, 2.5 * t.gateRateLimit) ? 'failed' : 'degraded', 'gate-rate');
   }
   if (spec.expectedPeriodS !== undefined) {
-    const last = Math.max(stats.lastTimeS, stats.lastRejectionTimeS);
-    const since = Number.isFinite(last) ? nowS - last : Number.POSITIVE_INFINITY;
+    // Silence is about arrivals, not event times: a store-and-forward link or a skewed sensor
+    // clock must not look like a silent sensor, and a sensor sending only rejects is not silent.
+    const since = nowS - lastHeardS;
     const limit = t.silentFactor * spec.expectedPeriodS;
     if (since > limit) raise(since > 3 * limit ? 'failed' : 'degraded', 'silent');
   }

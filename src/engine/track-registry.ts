@@ -24,6 +24,8 @@ export interface TrackRecord {
   trackHealth: HealthSummary;
   /** numericRefusals already reported to health. */
   numericsSeen: number;
+  /** Per sensor, when a decodable message for this entity last arrived (epoch ms; creation time at first). */
+  readonly lastHeardMs: Float64Array;
 }
 
 const OK: HealthSummary = Object.freeze({ state: 'ok', reasons: Object.freeze([]) as readonly never[] });
@@ -71,6 +73,7 @@ export class TrackRegistry {
       sensorHealth: rt.sensors.map(() => new HealthLatch()),
       trackHealth: OK,
       numericsSeen: track.counters.numericRefusals,
+      lastHeardMs: new Float64Array(rt.sensors.length).fill(nowMs),
     };
     this.byEntity.set(entity, record);
     return record;

@@ -184,10 +184,10 @@ describe('model checks', () => {
     ]);
   });
 
-  it('orders constant-velocity states position then rate per axis', () => {
+  it('orders constant-velocity states all positions, then all rates, as the model does', () => {
     const result = parseConfig({ estimators: [yard()] }, {});
     if (!result.ok) throw new Error(JSON.stringify(result.issues));
-    expect(modelStateNames(result.config.estimators[0]!.model)).toEqual(['east', 'v_east', 'north', 'v_north']);
+    expect(modelStateNames(result.config.estimators[0]!.model)).toEqual(['east', 'north', 'v_east', 'v_north']);
   });
 
   it('keeps explicit rate names', () => {
