@@ -19,8 +19,11 @@ export function fittedValues(problem: TuneProblem, fit: NoiseFit): Map<string, n
   return new Map(problem.free.map((f, i) => [f.path, fit.fitted.theta[i]!]));
 }
 
+/** 3 significant figures; exponent form outside [1e-3, 1e6), as in the YAML snippet. */
 function sig(v: number): string {
-  return Number.isFinite(v) ? String(roundSignificant(v)) : String(v);
+  if (!Number.isFinite(v) || v === 0) return String(v);
+  const r = roundSignificant(v);
+  return Math.abs(r) >= 1e-3 && Math.abs(r) < 1e6 ? String(r) : r.toExponential();
 }
 
 function nisText(n: NisConsistency | null): string {
@@ -43,7 +46,7 @@ export function tuneReportText(problem: TuneProblem, fit: NoiseFit, place: Estim
   const lines: string[] = [];
   lines.push(
     `estimator "${place.name}" (estimators[${place.index}]): ${rec.entities.length} ${rec.entities.length === 1 ? 'entity' : 'entities'}, ` +
-      `${like?.updates ?? 0} updates in ℓ (${like?.initial ?? 0} initializing left out), ${problem.free.length} free parameters`,
+      `${like?.updates ?? 0} updates in ℓ (${like?.initial ?? 0} initializing updates left out), ${problem.free.length} free parameters`,
   );
   if (rec.refused > 0 || rec.unrouted > 0) lines.push(`  ${rec.refused} messages refused by the decoders, ${rec.unrouted} on other topics`);
   const width = Math.max(9, ...problem.free.map((f) => f.path.length));
