@@ -36,6 +36,9 @@ export interface LikelihoodResult {
  * random walk that skips only the initializing measurement.
  */
 export function innovationsLogLikelihood(estimator: Estimator, entities: readonly EntityMeasurements[]): LikelihoodResult {
+  if (estimator.settings.sensors.some((s) => s.gateThreshold !== Number.POSITIVE_INFINITY)) {
+    throw new RangeError('innovationsLogLikelihood needs an estimator with its gate off (see tuningVariant)');
+  }
   const ws = estimator.workspace.filter;
   const n = estimator.settings.process.dim;
   const dims = estimator.settings.sensors.map((s) => s.model.dim);

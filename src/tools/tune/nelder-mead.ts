@@ -47,6 +47,88 @@ const CHI = 2;
 const GAMMA = 0.5;
 const SIGMA = 0.5;
 
+/** f restricted to the box: every point is clamped before it is evaluated, and counted. */
+class BoxedObjective {
+  evaluations = 0;
+  constructor(
+    private readonly f: (x: Float64Array) => number,
+    readonly lower: Float64Array,
+    readonly upper: Float64Array,
+  ) {}
+
+  clamp(x: Float64Array): Float64Array {
+    for (let i = 0; i < x.length; i++) x[i] = Math.min(this.upper[i]!, Math.max(this.lower[i]!, x[i]!));
+    return x;
+  }
+
+  /** f at x (clamped in place); a non-finite value counts as +Infinity. */
+  value(x: Float64Array): number {
+    this.evaluations += 1;
+    const v = this.f(this.clamp(x));
+    return Number.isFinite(v) ? v : Number.POSITIVE_INFINITY;
+  }
+}
+
+/** Vertices and their values, kept sorted best first after `sortSimplex`. */
+interface Simplex {
+  xs: Float64Array[];
+  fs: number[];
+}
+
+/** A fresh simplex around x: one step along each coordinate, inward where the upper bound is near. */
+function simplexAround(obj: BoxedObjective, x: Float64Array, step: number): Simplex {
+  const xs = [obj.clamp(Float64Array.from(x))];
+  for (let i = 0; i < x.length; i++) {
+    const v = Float64Array.from(xs[0]!);
+    v[i] = v[i]! + step <= obj.upper[i]! ? v[i]! + step : v[i]! - step;
+    xs.push(obj.clamp(v));
+  }
+  return { xs, fs: xs.map((v) => obj.value(v)) };
+}
+
+function sortSimplex(s: Simplex): void {
+  const order = s.fs.map((_, i) => i).sort((a, b) => s.fs[a]! - s.fs[b]!);
+  s.xs = order.map((i) => s.xs[i]!);
+  s.fs = order.map((i) => s.fs[i]!);
+}
+
+function converged(s: Simplex, fTol: number, xTol: number): boolean {
+  if (!(s.fs[s.fs.length - 1]! - s.fs[0]! <= fTol)) return false;
+  const best = s.xs[0]!;
+  return s.xs.every((x) => x.every((v, i) => Math.abs(v - best[i]!) <= xTol));
+}
+
+/** One iteration on a sorted simplex: reflect, expand, contract outside or inside, or shrink. */
+function iterate(obj: BoxedObjective, s: Simplex): void {
+  const n = s.xs.length - 1;
+  const worst = s.xs[n]!;
+  const centroid = new Float64Array(n);
+  for (let j = 0; j < n; j++) for (let i = 0; i < n; i++) centroid[i] = centroid[i]! + s.xs[j]![i]! / n;
+  const along = (t: number): Float64Array => Float64Array.from(centroid, (c, i) => c + t * (c - worst[i]!));
+  const replaceWorst = (x: Float64Array, fx: number): void => {
+    s.xs[n] = x;
+    s.fs[n] = fx;
+  };
+  const xr = along(RHO);
+  const fr = obj.value(xr);
+  if (fr < s.fs[0]!) {
+    const xe = along(RHO * CHI);
+    const fe = obj.value(xe);
+    return fe < fr ? replaceWorst(xe, fe) : replaceWorst(xr, fr);
+  }
+  if (fr < s.fs[n - 1]!) return replaceWorst(xr, fr);
+  // Outside contraction when the reflection beat the worst vertex, inside otherwise.
+  const outside = fr < s.fs[n]!;
+  const xc = along(outside ? RHO * GAMMA : -GAMMA);
+  const fc = obj.value(xc);
+  if (outside ? fc <= fr : fc < s.fs[n]!) return replaceWorst(xc, fc);
+  const best = s.xs[0]!;
+  for (let j = 1; j <= n; j++) {
+    s.xs[j] = Float64Array.from(s.xs[j]!, (v, i) => best[i]! + SIGMA * (v - best[i]!));
+    s.fs[j] = obj.value(s.xs[j]!);
+  }
+}
+
 /**
  * Minimizes f from x0, yielding after every iteration; the return value is the result. A
  * non-finite f counts as +Infinity, so a candidate outside f's domain is simply worse.
@@ -58,97 +140,38 @@ export function* nelderMeadSteps(
 ): Generator<NelderMeadProgress, NelderMeadResult, void> {
   const n = x0.length;
   if (n < 1) throw new RangeError('nelderMead needs at least one coordinate');
-  const lower = Float64Array.from({ length: n }, (_, i) => options.lower?.[i] ?? Number.NEGATIVE_INFINITY);
-  const upper = Float64Array.from({ length: n }, (_, i) => options.upper?.[i] ?? Number.POSITIVE_INFINITY);
+  const obj = new BoxedObjective(
+    f,
+    Float64Array.from({ length: n }, (_, i) => options.lower?.[i] ?? Number.NEGATIVE_INFINITY),
+    Float64Array.from({ length: n }, (_, i) => options.upper?.[i] ?? Number.POSITIVE_INFINITY),
+  );
   const step = options.initialStep ?? 0.5;
   const maxIterations = options.maxIterations ?? 400;
   const fTol = options.fTol ?? 1e-8;
   const xTol = options.xTol ?? 1e-6;
   const maxRestarts = options.maxRestarts ?? 3;
-  let evaluations = 0;
-  const clamp = (x: Float64Array): Float64Array => {
-    for (let i = 0; i < n; i++) x[i] = Math.min(upper[i]!, Math.max(lower[i]!, x[i]!));
-    return x;
-  };
-  const value = (x: Float64Array): number => {
-    evaluations += 1;
-    const v = f(x);
-    return Number.isFinite(v) ? v : Number.POSITIVE_INFINITY;
-  };
-  /** A fresh simplex around x: one step along each coordinate, inward where a bound is near. */
-  const simplexAround = (x: Float64Array): { xs: Float64Array[]; fs: number[] } => {
-    const xs = [clamp(Float64Array.from(x))];
-    for (let i = 0; i < n; i++) {
-      const v = Float64Array.from(xs[0]!);
-      v[i] = v[i]! + step <= upper[i]! ? v[i]! + step : v[i]! - step;
-      xs.push(clamp(v));
-    }
-    return { xs, fs: xs.map(value) };
-  };
-  let { xs, fs } = simplexAround(Float64Array.from(x0));
+  const s = simplexAround(obj, Float64Array.from(x0), step);
   let iteration = 0;
   let restarts = 0;
   let lastConvergedF = Number.POSITIVE_INFINITY;
-  const centroid = new Float64Array(n);
-  const along = (t: number): Float64Array => {
-    const worst = xs[n]!;
-    return clamp(Float64Array.from(centroid, (c, i) => c + t * (c - worst[i]!)));
-  };
-  const progress = (): NelderMeadProgress => ({ iteration, evaluations, restarts, bestX: Float64Array.from(xs[0]!), bestF: fs[0]! });
+  const progress = (): NelderMeadProgress => ({
+    iteration, evaluations: obj.evaluations, restarts, bestX: Float64Array.from(s.xs[0]!), bestF: s.fs[0]!,
+  });
   for (;;) {
-    const order = fs.map((_, i) => i).sort((a, b) => fs[a]! - fs[b]!);
-    xs = order.map((i) => xs[i]!);
-    fs = order.map((i) => fs[i]!);
-    if (converged(xs, fs, fTol, xTol)) {
-      const improved = lastConvergedF - fs[0]! > fTol;
-      lastConvergedF = Math.min(lastConvergedF, fs[0]!);
+    sortSimplex(s);
+    if (converged(s, fTol, xTol)) {
+      const improved = lastConvergedF - s.fs[0]! > fTol;
+      lastConvergedF = Math.min(lastConvergedF, s.fs[0]!);
       if (!improved || restarts >= maxRestarts) return { ...progress(), converged: true };
       restarts += 1;
-      ({ xs, fs } = simplexAround(xs[0]!));
+      Object.assign(s, simplexAround(obj, s.xs[0]!, step));
       continue;
     }
     if (iteration >= maxIterations) return { ...progress(), converged: false };
     iteration += 1;
-    centroid.fill(0);
-    for (let j = 0; j < n; j++) for (let i = 0; i < n; i++) centroid[i] = centroid[i]! + xs[j]![i]! / n;
-    const fBest = fs[0]!;
-    const fNext = fs[n - 1]!;
-    const fWorst = fs[n]!;
-    const xr = along(RHO);
-    const fr = value(xr);
-    if (fr < fBest) {
-      const xe = along(RHO * CHI);
-      const fe = value(xe);
-      replaceWorst(xs, fs, fe < fr ? xe : xr, Math.min(fe, fr));
-    } else if (fr < fNext) {
-      replaceWorst(xs, fs, xr, fr);
-    } else {
-      // Outside contraction when the reflection beat the worst vertex, inside otherwise.
-      const outside = fr < fWorst;
-      const xc = along(outside ? RHO * GAMMA : -GAMMA);
-      const fc = value(xc);
-      if (outside ? fc <= fr : fc < fWorst) {
-        replaceWorst(xs, fs, xc, fc);
-      } else {
-        for (let j = 1; j <= n; j++) {
-          xs[j] = clamp(Float64Array.from(xs[j]!, (v, i) => xs[0]![i]! + SIGMA * (v - xs[0]![i]!)));
-          fs[j] = value(xs[j]!);
-        }
-      }
-    }
+    iterate(obj, s);
     yield progress();
   }
-}
-
-function replaceWorst(xs: Float64Array[], fs: number[], x: Float64Array, fx: number): void {
-  xs[xs.length - 1] = x;
-  fs[fs.length - 1] = fx;
-}
-
-function converged(xs: readonly Float64Array[], fs: readonly number[], fTol: number, xTol: number): boolean {
-  if (!(fs[fs.length - 1]! - fs[0]! <= fTol)) return false;
-  const best = xs[0]!;
-  return xs.every((x) => x.every((v, i) => Math.abs(v - best[i]!) <= xTol));
 }
 
 /** Runs `nelderMeadSteps` to the end and returns its result. */

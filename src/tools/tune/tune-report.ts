@@ -67,7 +67,7 @@ export function tuneReportText(problem: TuneProblem, fit: NoiseFit, place: Estim
   lines.push(`NIS mean${bandText}: start ${nisText(fit.start.nis)}, fitted ${nisText(band)}`);
   if ((like?.refused ?? 0) > 0) lines.push(`warning: the filter refused ${like!.refused} steps for numerics at the fit; ℓ is suspect`);
   const how = fit.stopped ? 'stopped early, best so far' : fit.converged ? 'converged' : 'iteration budget reached before convergence';
-  lines.push(`search: ${how} after ${fit.iterations} iterations, ${fit.evaluations} likelihood evaluations`);
+  lines.push(`search: ${how} after ${fit.iterations} iteration${fit.iterations === 1 ? '' : 's'}, ${fit.evaluations} likelihood evaluations`);
   lines.push('');
   lines.push(`YAML to paste into estimators[${place.index}] ("${place.name}"):`);
   lines.push(fittedYamlSnippet(problem.base, fittedValues(problem, fit)).trimEnd());

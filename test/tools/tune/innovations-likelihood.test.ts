@@ -81,3 +81,12 @@ describe('decodeRecording', () => {
     expect([decoded.decoded, decoded.refused, decoded.unrouted]).toEqual([1, 1, 1]);
   });
 });
+
+describe('innovationsLogLikelihood with a gate', () => {
+  it('refuses an estimator whose gate is on', () => {
+    const parsed = parseConfig({ estimators: [probeEstimator(0.05, 0.2)] }, {});
+    if (!parsed.ok) throw new Error('invalid test config');
+    const gated = buildEstimatorRuntime(parsed.config.estimators[0]!);
+    expect(() => innovationsLogLikelihood(gated.estimator, [])).toThrow(/gate off/);
+  });
+});

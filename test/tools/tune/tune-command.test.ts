@@ -110,7 +110,7 @@ describe('statecast tune', () => {
     });
     expect(r.code).toBe(130);
     expect(r.stderr).toContain('tune [');
-    expect(r.stdout).toContain('search: stopped early, best so far after 1 iterations');
+    expect(r.stdout).toContain('search: stopped early, best so far after 1 iteration,');
     expect(snippetOf(r.stdout)).toHaveProperty('model.q');
   });
 
