@@ -242,7 +242,10 @@ export class Track {
     if (this.smoother !== null) {
       ws.xPredicted.set(ws.x);
       ws.PPredicted.set(ws.P);
-      if (dtS === 0) ws.filter.A.set(ws.identity);
+      if (dtS === 0) {
+        ws.filter.A.set(ws.identity);
+        ws.filter.cachedDtS = Number.NaN;
+      }
     }
     const gate = live ? spec.gateThreshold : Number.POSITIVE_INFINITY;
     const verdict = this.settings.update(spec.model, y, R, gate, ws.x, ws.P, ws.filter);

@@ -31,6 +31,12 @@ export class FilterWorkspace {
   readonly KR: Float64Array;
   readonly mScratch: Float64Array;
   readonly sDiagonal: Float64Array;
+  /**
+   * The dt and model that ws.A / ws.Q / aPattern currently hold (NaN: nothing cached). Whoever
+   * writes ws.A for another purpose must reset cachedDtS to NaN.
+   */
+  cachedDtS = Number.NaN;
+  cachedModel: object | null = null;
   /** Results of the last update: the NIS d² = νᵀS⁻¹ν, and the measurement dimension used. */
   nis = Number.NaN;
   lastM = 0;

@@ -24,9 +24,15 @@ export function kalmanPredictInPlace(
 ): boolean {
   const n = ws.n;
   if (dtS === 0 && input === undefined) return true;
-  model.discretizeInto(dtS, ws.A, ws.Q);
   const pat = ws.aPattern;
-  pat.scan(ws.A);
+  // Sensors at a fixed rate repeat the same dt: A(dt), Q(dt) and A's pattern are then still in
+  // the workspace from the previous step (of any track: they share the estimator's model).
+  if (dtS !== ws.cachedDtS || model !== ws.cachedModel) {
+    model.discretizeInto(dtS, ws.A, ws.Q);
+    pat.scan(ws.A);
+    ws.cachedDtS = dtS;
+    ws.cachedModel = model;
+  }
   sparseTimesVectorInto(ws.A, pat, x, ws.xCandidate);
   if (input !== undefined && model.applyInputInPlace !== undefined) model.applyInputInPlace(dtS, input, ws.xCandidate);
   sparseTimesDenseInto(ws.A, pat, P, n, ws.nn1);

@@ -76,29 +76,38 @@ export function kalmanUpdateInPlace(
   return 'applied';
 }
 
-/** ws.nn2 = (I − KH) P (I − KH)ᵀ + K R Kᵀ, using ws.nn1 (I − KH) and ws.nn3 ((I − KH)P). */
+/**
+ * ws.nn2 = (I − KH) P (I − KH)ᵀ + K R Kᵀ, evaluated in factored order to use H's sparsity:
+ * (I − KH)P = P − K Uᵀ with U = P Hᵀ (already computed, P symmetric), then
+ * [(I − KH)P](I − KH)ᵀ = LP − (LP Hᵀ) Kᵀ. The result is the Joseph form exactly, not the
+ * shortened P − KSKᵀ, so it stays symmetric PSD for any gain (C11 checks both gains).
+ */
 function josephInto(
   P: Float64Array, H: Float64Array, rowStart: Int32Array, cols: Int32Array,
   R: Float64Array, m: number, ws: FilterWorkspace,
 ): void {
   const n = ws.n;
   const K = ws.K;
-  const IKH = ws.nn1;
-  IKH.fill(0);
-  for (let i = 0; i < n; i++) IKH[i * n + i] = 1;
-  for (let r = 0; r < m; r++) {
-    for (let t = rowStart[r]!; t < rowStart[r + 1]!; t++) {
-      const k = cols[t]!;
-      const h = H[r * n + k]!;
-      for (let i = 0; i < n; i++) IKH[i * n + k] = IKH[i * n + k]! - K[i * m + r]! * h;
-    }
-  }
+  const U = ws.U;
   const LP = ws.nn3;
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < n; j++) {
-      let s = 0;
-      for (let k = 0; k < n; k++) s += IKH[i * n + k]! * P[k * n + j]!;
+      let s = P[i * n + j]!;
+      for (let r = 0; r < m; r++) s -= K[i * m + r]! * U[j * m + r]!;
       LP[i * n + j] = s;
+    }
+  }
+  // W = LP Hᵀ (n×m), reusing ws.Kt's storage (its contents are no longer needed).
+  const W = ws.Kt;
+  for (let i = 0; i < n; i++) {
+    for (let r = 0; r < m; r++) {
+      let s = 0;
+      const end = rowStart[r + 1]!;
+      for (let t = rowStart[r]!; t < end; t++) {
+        const k = cols[t]!;
+        s += LP[i * n + k]! * H[r * n + k]!;
+      }
+      W[i * m + r] = s;
     }
   }
   const KR = ws.KR;
@@ -112,9 +121,8 @@ function josephInto(
   const out = ws.nn2;
   for (let i = 0; i < n; i++) {
     for (let j = i; j < n; j++) {
-      let s = 0;
-      for (let k = 0; k < n; k++) s += LP[i * n + k]! * IKH[j * n + k]!;
-      for (let c = 0; c < m; c++) s += KR[i * m + c]! * K[j * m + c]!;
+      let s = LP[i * n + j]!;
+      for (let c = 0; c < m; c++) s += (KR[i * m + c]! - W[i * m + c]!) * K[j * m + c]!;
       out[i * n + j] = s;
       out[j * n + i] = s;
     }

@@ -4,6 +4,7 @@
  * Transitions and sensor matrices are mostly zeros (a constant-velocity A has 6 nonzeros of 16,
  * a position sensor's C has 2 of 8). Scanning the values each step costs rows·cols comparisons,
  * far less than the multiplications it saves, and can never go stale when A changes with dt.
+ * The kernels hoist every array into a local: V8 then keeps them in registers.
  */
 export class RowPattern {
   /** Column indices of the nonzeros, row after row. */
@@ -19,14 +20,17 @@ export class RowPattern {
 
   /** Rebuilds the pattern from the values of m (rows×colsCount, row-major). */
   scan(m: Float64Array): void {
-    let k = 0;
+    const cols = this.cols;
+    const rowStart = this.rowStart;
     const c = this.colsCount;
-    for (let i = 0; i < this.rows; i++) {
-      this.rowStart[i] = k;
+    const rows = this.rows;
+    let k = 0;
+    for (let i = 0; i < rows; i++) {
+      rowStart[i] = k;
       const base = i * c;
-      for (let j = 0; j < c; j++) if (m[base + j] !== 0) this.cols[k++] = j;
+      for (let j = 0; j < c; j++) if (m[base + j] !== 0) cols[k++] = j;
     }
-    this.rowStart[this.rows] = k;
+    rowStart[rows] = k;
   }
 }
 
@@ -35,11 +39,15 @@ export function sparseTimesDenseInto(
   a: Float64Array, pa: RowPattern, b: Float64Array, n: number, out: Float64Array,
 ): void {
   const k = pa.colsCount;
-  for (let i = 0; i < pa.rows; i++) {
+  const rows = pa.rows;
+  const rowStart = pa.rowStart;
+  const cols = pa.cols;
+  for (let i = 0; i < rows; i++) {
     const oi = i * n;
     for (let j = 0; j < n; j++) out[oi + j] = 0;
-    for (let t = pa.rowStart[i]!; t < pa.rowStart[i + 1]!; t++) {
-      const col = pa.cols[t]!;
+    const end = rowStart[i + 1]!;
+    for (let t = rowStart[i]!; t < end; t++) {
+      const col = cols[t]!;
       const v = a[i * k + col]!;
       const bi = col * n;
       for (let j = 0; j < n; j++) out[oi + j] = out[oi + j]! + v * b[bi + j]!;
@@ -53,13 +61,17 @@ export function denseTimesSparseTransposedInto(
 ): void {
   const k = pa.colsCount;
   const r = pa.rows;
+  const rowStart = pa.rowStart;
+  const cols = pa.cols;
   for (let i = 0; i < n; i++) {
     const bi = i * k;
     for (let j = 0; j < r; j++) {
       let s = 0;
-      for (let t = pa.rowStart[j]!; t < pa.rowStart[j + 1]!; t++) {
-        const col = pa.cols[t]!;
-        s += b[bi + col]! * a[j * k + col]!;
+      const end = rowStart[j + 1]!;
+      const aj = j * k;
+      for (let t = rowStart[j]!; t < end; t++) {
+        const col = cols[t]!;
+        s += b[bi + col]! * a[aj + col]!;
       }
       out[i * r + j] = s;
     }
@@ -75,13 +87,17 @@ export function symmetricDenseTimesSparseTransposedInto(
 ): void {
   const n = pa.rows;
   const k = pa.colsCount;
+  const rowStart = pa.rowStart;
+  const cols = pa.cols;
   for (let i = 0; i < n; i++) {
     const bi = i * k;
     for (let j = i; j < n; j++) {
       let s = 0;
-      for (let t = pa.rowStart[j]!; t < pa.rowStart[j + 1]!; t++) {
-        const col = pa.cols[t]!;
-        s += b[bi + col]! * a[j * k + col]!;
+      const end = rowStart[j + 1]!;
+      const aj = j * k;
+      for (let t = rowStart[j]!; t < end; t++) {
+        const col = cols[t]!;
+        s += b[bi + col]! * a[aj + col]!;
       }
       out[i * n + j] = s;
       out[j * n + i] = s;
@@ -92,10 +108,14 @@ export function symmetricDenseTimesSparseTransposedInto(
 /** out (r) = a (r×k, pattern pa) · v (k). */
 export function sparseTimesVectorInto(a: Float64Array, pa: RowPattern, v: Float64Array, out: Float64Array): void {
   const k = pa.colsCount;
-  for (let i = 0; i < pa.rows; i++) {
+  const rows = pa.rows;
+  const rowStart = pa.rowStart;
+  const cols = pa.cols;
+  for (let i = 0; i < rows; i++) {
     let s = 0;
-    for (let t = pa.rowStart[i]!; t < pa.rowStart[i + 1]!; t++) {
-      const col = pa.cols[t]!;
+    const end = rowStart[i + 1]!;
+    for (let t = rowStart[i]!; t < end; t++) {
+      const col = cols[t]!;
       s += a[i * k + col]! * v[col]!;
     }
     out[i] = s;
