@@ -5,7 +5,10 @@
 import type { ToolCommand, ToolIo } from './tool-io.js';
 
 /** Command name → loader of its implementation. */
-export const TOOL_COMMANDS: Readonly<Record<string, () => Promise<ToolCommand>>> = {};
+export const TOOL_COMMANDS: Readonly<Record<string, () => Promise<ToolCommand>>> = {
+  replay: async () => (await import('./replay-command.js')).runReplayCommand,
+  tune: async () => (await import('./tune-command.js')).runTuneCommand,
+};
 
 /** The ToolIo of the real process: stdio, and SIGINT as an abort (a second SIGINT exits at once). */
 export function processToolIo(): ToolIo {
