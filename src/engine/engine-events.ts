@@ -26,6 +26,8 @@ export interface EngineEventMap {
     estimator: string; sensor: string; entity: string | null; topic: string;
     reason: RejectionReason | DecodeRejection | 'no-route' | 'entity-cap' | 'bad-topic';
     tS: number; nis: number; sequence: number | null;
+    /** The decoded values (reused buffer: copy to keep) when decoding succeeded, else null. */
+    values: Float64Array | null;
   };
   'track:created': { estimator: string; entity: string };
   'track:evicted': { estimator: string; entity: string; why: 'idle' | 'reset' };

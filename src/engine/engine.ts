@@ -85,7 +85,7 @@ export class Engine implements EngineView {
       }
     }
     if (!routed) {
-      this.events.emit('measurement:rejected', { estimator: '', sensor: '', entity: null, topic, reason: 'no-route', tS: Number.NaN, nis: Number.NaN, sequence: null });
+      this.events.emit('measurement:rejected', { estimator: '', sensor: '', entity: null, topic, reason: 'no-route', tS: Number.NaN, nis: Number.NaN, sequence: null, values: null });
     }
   }
 
@@ -95,7 +95,7 @@ export class Engine implements EngineView {
     const arrivalS = arrivalMs / 1000;
     if (!sensor.decoder.decode(payload, arrivalS, slot)) {
       this.events.emit('measurement:rejected', {
-        estimator: rt.name, sensor: sensor.name, entity: null, topic, reason: slot.reason ?? 'malformed', tS: Number.NaN, nis: Number.NaN, sequence: null,
+        estimator: rt.name, sensor: sensor.name, entity: null, topic, reason: slot.reason ?? 'malformed', tS: Number.NaN, nis: Number.NaN, sequence: null, values: null,
       });
       return;
     }
@@ -105,7 +105,7 @@ export class Engine implements EngineView {
       record = est.registry.create(entity, captures, rt, arrivalMs);
       if (record === undefined) {
         this.events.emit('measurement:rejected', {
-          estimator: rt.name, sensor: sensor.name, entity, topic, reason: 'entity-cap', tS: slot.timeS, nis: Number.NaN, sequence: slot.hasSequence ? slot.sequence : null,
+          estimator: rt.name, sensor: sensor.name, entity, topic, reason: 'entity-cap', tS: slot.timeS, nis: Number.NaN, sequence: slot.hasSequence ? slot.sequence : null, values: slot.values,
         });
         return;
       }
@@ -132,7 +132,7 @@ export class Engine implements EngineView {
     } else {
       this.events.emit('measurement:rejected', {
         estimator: rt.name, sensor: sensor.name, entity, topic, reason: verdict, tS: slot.timeS,
-        nis: verdict === 'gate' ? track.stats[sensor.index]!.lastRejectedNis : Number.NaN, sequence,
+        nis: verdict === 'gate' ? track.stats[sensor.index]!.lastRejectedNis : Number.NaN, sequence, values: slot.values,
       });
     }
   }

@@ -64,7 +64,7 @@ export function rejectedEvent(
 ): EngineEventMap['measurement:rejected'] {
   return {
     estimator: 'tanks', sensor: 'level', entity: 'tank-a', topic: 'farm/tank-a/level', reason: 'gate',
-    tS: 1_767_225_600, nis: Number.NaN, sequence: null, ...overrides,
+    tS: 1_767_225_600, nis: Number.NaN, sequence: null, values: new Float64Array([2.31]), ...overrides,
   };
 }
 

@@ -22,7 +22,7 @@ export type ParseVerdict =
   | { readonly ok: true; readonly request: ClientRequest }
   | { readonly ok: false; readonly message: string; readonly id?: RequestId };
 
-const SUBSCRIBE_FIELDS = new Set(['op', 'id', 'estimators', 'entities', 'kinds', 'health']);
+const SUBSCRIBE_FIELDS = new Set(['op', 'id', 'estimators', 'entities', 'kinds', 'health', 'measurements']);
 const PING_FIELDS = new Set(['op', 'id']);
 const KIND_SET: ReadonlySet<string> = new Set(ESTIMATE_KINDS);
 
@@ -72,6 +72,8 @@ function readSubscribe(fields: Record<string, unknown>, id: RequestId | undefine
   ) as EstimateKind[] | undefined;
   const health = fields['health'];
   if (health !== undefined && typeof health !== 'boolean') throw new FieldError('health: expected true or false');
+  const measurements = fields['measurements'];
+  if (measurements !== undefined && typeof measurements !== 'boolean') throw new FieldError('measurements: expected true or false');
   const count = (estimators?.length ?? 0) + (entities?.length ?? 0);
   if (count > limits.maxSubscriptions) {
     throw new FieldError(
@@ -81,6 +83,7 @@ function readSubscribe(fields: Record<string, unknown>, id: RequestId | undefine
   return {
     op: 'subscribe',
     health: health === true,
+    measurements: measurements === true,
     ...(id === undefined ? {} : { id }),
     ...(estimators === undefined ? {} : { estimators }),
     ...(entities === undefined ? {} : { entities }),

@@ -12,6 +12,8 @@ export interface SubscriptionFilter {
   readonly kinds?: readonly EstimateKind[];
   /** Push health changes of the matching tracks. */
   readonly health: boolean;
+  /** Push each measurement outcome of the matching tracks (for live plots). Default false. */
+  readonly measurements?: boolean;
 }
 
 /** A client's active subscription, compiled once so matching an event is a few set look-ups. */
@@ -22,6 +24,7 @@ export class ClientSubscription {
   private readonly entityNames: ReadonlySet<string> | null;
   private readonly entityGlobs: readonly EntityMatcher[];
   private readonly health: boolean;
+  private readonly measurements: boolean;
 
   /** Compiles the filter; the patterns must have passed entityGlobProblem. */
   constructor(filter: SubscriptionFilter) {
@@ -35,6 +38,12 @@ export class ClientSubscription {
       this.entityGlobs = filter.entities.filter(isEntityGlob).map(compileEntityGlob);
     }
     this.health = filter.health;
+    this.measurements = filter.measurements === true;
+  }
+
+  /** True when measurement outcomes of this track are wanted. */
+  matchesMeasurement(estimator: string, entity: string): boolean {
+    return this.measurements && this.matchesTrack(estimator, entity);
   }
 
   /** True when an estimate of this track and kind is wanted. */

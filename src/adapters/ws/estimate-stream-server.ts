@@ -18,7 +18,7 @@ import {
 import { StreamClient, type StreamClientStats, type StreamTotals } from './stream-client.js';
 import { refuseUpgrade, UpgradeGate } from './upgrade-gate.js';
 import {
-  CLOSE_CODES, errorFrame, estimateFrame, healthFrame, helloFrame, pongFrame, snapshotFrame,
+  CLOSE_CODES, errorFrame, estimateFrame, healthFrame, helloFrame, measurementFrame, pongFrame, snapshotFrame,
   subscribedFrame, type SubscribeRequest,
 } from './ws-protocol.js';
 
@@ -70,7 +70,12 @@ export class EstimateStreamServer {
     });
     this.deps.httpServer.on('upgrade', this.onUpgrade);
     const events = this.deps.view.events;
-    this.unsubscribe = [events.on('estimate', this.onEstimate), events.on('health:changed', this.onHealth)];
+    this.unsubscribe = [
+      events.on('estimate', this.onEstimate),
+      events.on('health:changed', this.onHealth),
+      events.on('measurement:accepted', this.onAccepted),
+      events.on('measurement:rejected', this.onRejected),
+    ];
     this.heartbeat = setInterval(this.onHeartbeat, this.options.heartbeatMs);
     this.heartbeat.unref();
   }
@@ -214,6 +219,28 @@ export class EstimateStreamServer {
       client.sendInOrder(frame);
     }
   };
+
+  private readonly onAccepted = (e: EngineEventMap['measurement:accepted']): void => {
+    this.pushMeasurement(e.estimator, e.entity, e.sensor, e.tS, e.values, e.nis, Number.isNaN(e.nis) ? 'initialized' : e.late ? 'late-applied' : 'applied');
+  };
+
+  private readonly onRejected = (e: EngineEventMap['measurement:rejected']): void => {
+    if (e.entity === null || e.values === null) return;
+    this.pushMeasurement(e.estimator, e.entity, e.sensor, e.tS, e.values, e.nis, e.reason);
+  };
+
+  private pushMeasurement(
+    estimator: string, entity: string, sensor: string, t: number, values: Float64Array, nis: number, verdict: string,
+  ): void {
+    let frame: string | undefined;
+    for (const client of this.clients) {
+      if (client.subscription?.matchesMeasurement(estimator, entity) !== true) continue;
+      frame ??= measurementFrame({
+        estimator, entity, sensor, t, values: Array.from(values), nis: Number.isFinite(nis) ? nis : null, verdict,
+      });
+      client.sendLatest(`${estimator}\u0000${entity}\u0000m:${sensor}`, frame);
+    }
+  }
 
   private readonly onHeartbeat = (): void => {
     for (const client of this.clients) {

@@ -3,10 +3,11 @@
  *
  * Client → server:
  * - `{"op":"subscribe","id"?:ID,"estimators"?:[NAME,...],"entities"?:[PATTERN,...],
- *    "kinds"?:["filtered"|"predicted"|"smoothed",...],"health"?:BOOLEAN}`
+ *    "kinds"?:["filtered"|"predicted"|"smoothed",...],"health"?:BOOLEAN,"measurements"?:BOOLEAN}`
  *   replaces the client's one subscription. An absent list matches everything, an empty list
  *   nothing; `PATTERN` is an entity name where `*` matches any run of characters. `health: true`
- *   adds health changes of the matching tracks. Estimator names must be configured ones; at most
+ *   adds health changes of the matching tracks, `measurements: true` each measurement's outcome
+ *   (for live plots). Estimator names must be configured ones; at most
  *   `maxSubscriptionsPerClient` estimator names and entity patterns together.
  * - `{"op":"ping","id"?:ID}` asks for a `pong`.
  * `ID` is a string (at most 128 characters) or a finite number, echoed in the reply. Unknown
@@ -19,6 +20,9 @@
  * - `{"type":"estimate","data":PAYLOAD}` per matching estimate (PAYLOAD is the estimate payload
  *   published on MQTT, see estimate-message.ts).
  * - `{"type":"health","data":HEALTH_CHANGE}` per matching health change when subscribed to health.
+ * - `{"type":"measurement","data":{estimator,entity,sensor,t,values,nis,verdict}}` per
+ *   measurement of a matching track when subscribed to measurements (verdict: applied,
+ *   late-applied, initialized, or the rejection reason; coalesced per sensor for slow clients).
  * - `{"type":"pong","id"?:ID}` after a ping.
  * - `{"type":"error","message":TEXT,"id"?:ID}` for a request that was refused; the connection
  *   stays open and the previous subscription stays active.
@@ -48,6 +52,8 @@ export interface SubscribeRequest {
   readonly entities?: readonly string[];
   readonly kinds?: readonly EstimateKind[];
   readonly health: boolean;
+  /** Also push every measurement outcome of the matching tracks. */
+  readonly measurements: boolean;
 }
 
 /** A validated ping request. */
@@ -94,6 +100,24 @@ export function snapshotFrame(payloads: readonly string[]): string {
 /** Spliced without re-parsing, since this runs for every estimate and every client. */
 export function estimateFrame(payload: string): string {
   return `{"type":"estimate","data":${payload}}`;
+}
+
+/** One measurement outcome, for live plots: what was measured, how it scored, what became of it. */
+export interface MeasurementOutcome {
+  readonly estimator: string;
+  readonly entity: string;
+  readonly sensor: string;
+  readonly t: number;
+  readonly values: readonly number[];
+  /** NIS of the update (or of the refused attempt for a gate rejection); null where none. */
+  readonly nis: number | null;
+  /** 'applied' | 'late-applied' | 'initialized' | a rejection reason. */
+  readonly verdict: string;
+}
+
+/** `{"type":"measurement","data":MEASUREMENT_OUTCOME}`. */
+export function measurementFrame(m: MeasurementOutcome): string {
+  return `{"type":"measurement","data":${JSON.stringify(m)}}`;
 }
 
 /** `{"type":"health","data":HEALTH_CHANGE}`. */

@@ -11,15 +11,15 @@ function refusal(text: string): string {
 
 describe('parseClientRequest', () => {
   it('parses a full subscribe request', () => {
-    const text = '{"op":"subscribe","id":"a1","estimators":["yard"],"entities":["tug-*"],"kinds":["filtered"],"health":true}';
+    const text = '{"op":"subscribe","id":"a1","estimators":["yard"],"entities":["tug-*"],"kinds":["filtered"],"health":true,"measurements":true}';
     expect(parseClientRequest(text, limits)).toEqual({
       ok: true,
-      request: { op: 'subscribe', id: 'a1', estimators: ['yard'], entities: ['tug-*'], kinds: ['filtered'], health: true },
+      request: { op: 'subscribe', id: 'a1', estimators: ['yard'], entities: ['tug-*'], kinds: ['filtered'], health: true, measurements: true },
     });
   });
 
-  it('leaves absent lists out and health off', () => {
-    expect(parseClientRequest('{"op":"subscribe"}', limits)).toEqual({ ok: true, request: { op: 'subscribe', health: false } });
+  it('leaves absent lists out and health and measurements off', () => {
+    expect(parseClientRequest('{"op":"subscribe"}', limits)).toEqual({ ok: true, request: { op: 'subscribe', health: false, measurements: false } });
   });
 
   it('parses a ping with a numeric id', () => {
