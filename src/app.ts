@@ -20,6 +20,7 @@ import { createDaemonMetrics, type DaemonMetrics } from './adapters/metrics/daem
 import { CheckpointKeeper } from './daemon/checkpoint-keeper.js';
 import { DemoSimulator } from './daemon/demo-simulator.js';
 import { wireEngineLogging } from './daemon/engine-logging.js';
+import { DASHBOARD_VENDOR_ASSETS } from './dashboard/vendor-assets.js';
 
 /** What the shell gives the app (the CLI passes real ones; tests may pass fakes). */
 export interface AppDeps {
@@ -130,6 +131,7 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
         ...(config.auth.token === undefined ? {} : { token: config.auth.token }),
         readiness: () => ({ ready: this.ready(), checks: { config: true, broker: connection?.connected === true } }),
         staticDir: DASHBOARD_DIR,
+        extraFiles: DASHBOARD_VENDOR_ASSETS,
         logger: log,
       });
       stream = new EstimateStreamServer({ httpServer: http.server, view: handle }, {

@@ -20,7 +20,7 @@ import { READ_METHODS, type HttpRoute } from './http-route.js';
 import { matchJsonApiRoute, type JsonApiDeps } from './json-api-routes.js';
 import { declaredBodyTooLarge } from './request-body.js';
 import { parseRequestPath } from './request-path.js';
-import { staticFileRoute } from './static-files.js';
+import { singleFileRoute, staticFileRoute } from './static-files.js';
 
 /** Readiness as the composition root reports it: each named check and the overall verdict. */
 export interface Readiness {
@@ -43,6 +43,8 @@ export interface AdminHttpServerOptions {
   readonly readiness: () => Readiness;
   /** The dashboard's folder, served at `/`; without it only the API and metrics are served. */
   readonly staticDir?: string;
+  /** Single files served at fixed URL paths (e.g. `/vendor/uplot.iife.min.js` → its file in node_modules). */
+  readonly extraFiles?: Readonly<Record<string, string>>;
   readonly logger?: AdminHttpLogger;
   /** How long stop() lets in-flight requests finish before cutting connections, in ms (default 3000). */
   readonly closeDeadlineMs?: number;
@@ -73,6 +75,8 @@ export function createAdminHttpServer(options: AdminHttpServerOptions): AdminHtt
       if (segments[0] === 'healthz') return read((res) => sendJson(res, 200, { status: 'alive' }));
       if (segments[0] === 'readyz') return read((res) => sendReadiness(res, options.readiness()));
     }
+    const extra = options.extraFiles?.[`/${segments.join('/')}`];
+    if (extra !== undefined) return singleFileRoute(extra);
     return options.staticDir === undefined ? null : staticFileRoute(options.staticDir, segments);
   };
 

@@ -34,6 +34,25 @@ export function staticFileRoute(rootDir: string, segments: readonly string[]): H
   return { allow: READ_METHODS, handle: (req, res) => serveStatic(req, res, resolve(rootDir), segments) };
 }
 
+/** Returns the route that serves one named file (e.g. a dependency's asset from node_modules). */
+export function singleFileRoute(filePath: string): HttpRoute {
+  return {
+    allow: READ_METHODS,
+    handle: async (req, res) => {
+      let sizeBytes: number;
+      try {
+        const info = await stat(filePath);
+        if (!info.isFile()) throw new Error('not a file');
+        sizeBytes = info.size;
+      } catch {
+        sendError(res, 'NOT_FOUND');
+        return;
+      }
+      await sendFile(req, res, { path: filePath, sizeBytes });
+    },
+  };
+}
+
 async function serveStatic(
   req: IncomingMessage, res: ServerResponse, root: string, segments: readonly string[],
 ): Promise<void> {
@@ -47,6 +66,10 @@ async function serveStatic(
     sendError(res, 'NOT_FOUND');
     return;
   }
+  await sendFile(req, res, file);
+}
+
+async function sendFile(req: IncomingMessage, res: ServerResponse, file: { path: string; sizeBytes: number }): Promise<void> {
   res.writeHead(200, {
     'Content-Type': STATIC_CONTENT_TYPES[extname(file.path).toLowerCase()] ?? 'application/octet-stream',
     'Content-Length': file.sizeBytes,
