@@ -26,8 +26,11 @@ export type RecordingVisitor = (tMs: number, topic: string, payload: Uint8Array)
 export interface ReadRecordingOptions {
   /** Stops the read between chunks; the result then has aborted = true. */
   readonly signal?: AbortSignal;
-  /** Called after each chunk with the bytes read so far and the file size. */
-  readonly onProgress?: (bytesRead: number, totalBytes: number) => void;
+  /**
+   * Called after each chunk (about 1 MiB) with the bytes read so far and the file size; a
+   * returned promise is awaited before the next read, which lets the caller drain its output.
+   */
+  readonly afterChunk?: (bytesRead: number, totalBytes: number) => Promise<void> | void;
 }
 
 /** What a read saw. */
@@ -90,7 +93,7 @@ export async function readRecording(path: string, visit: RecordingVisitor, optio
       // Keep the unfinished line at the front for the next read.
       buf.copy(buf, 0, start, end);
       filled = end - start;
-      options.onProgress?.(bytesRead, totalBytes);
+      await options.afterChunk?.(bytesRead, totalBytes);
     }
     return { header: header ?? missingHeader(path), messages, lines: line, aborted: false };
   } finally {
