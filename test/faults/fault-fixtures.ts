@@ -82,28 +82,61 @@ export async function readingCounts(daemon: SoakDaemon, estimator = 'tanks'): Pr
   };
 }
 
+/** Lets a publisher loop pause between readings: `close()`, then `open()` to go on. */
+export class Valve {
+  private opened: Promise<void> = Promise.resolve();
+  private release: () => void = () => {};
+
+  /** Publishing stops before the next reading. */
+  close(): void {
+    this.opened = new Promise((resolve) => (this.release = resolve));
+  }
+
+  /** Publishing goes on. */
+  open(): void {
+    this.release();
+  }
+
+  /** Resolves while (or once) the valve is open. */
+  passed(): Promise<void> {
+    return this.opened;
+  }
+}
+
+/** Options of publishReadings. */
+export interface PublishReadingsOptions {
+  /** Readings per pacing period (default 50). */
+  readonly chunk?: number;
+  /** Pacing period in ms (default 50). */
+  readonly periodMs?: number;
+  /** Most unacknowledged readings at once (default 200). */
+  readonly maxOutstanding?: number;
+  /** Sees the running count of acknowledged readings. */
+  readonly onAcknowledged?: (acked: number) => void;
+  /** Sees the running count of readings handed to the client. */
+  readonly onIssued?: (issued: number) => void;
+  /** Awaited before each reading, so a test can pause the stream. */
+  readonly valve?: Valve;
+}
+
 /**
  * Publishes readings 0..count-1 at QoS 1, at most `maxOutstanding` unacknowledged, in chunks of
  * `chunk` every `periodMs` (pacing the load). A publish made while the broker is away stays
  * pending in the client's session store, so the loop stalls instead of dropping.
- * `onAcknowledged` sees the running count of acknowledged readings.
  */
-export async function publishReadings(
-  client: MqttClient,
-  count: number,
-  t0S: number,
-  options: { chunk?: number; periodMs?: number; maxOutstanding?: number; onAcknowledged?: (acked: number) => void; from?: number } = {},
-): Promise<void> {
+export async function publishReadings(client: MqttClient, count: number, t0S: number, options: PublishReadingsOptions = {}): Promise<void> {
   const chunk = options.chunk ?? 50;
   const periodMs = options.periodMs ?? 50;
   const maxOutstanding = options.maxOutstanding ?? 200;
   let acked = 0;
   const pending = new Set<Promise<unknown>>();
-  for (let seq = options.from ?? 0; seq < count; seq += chunk) {
+  for (let seq = 0; seq < count; seq += chunk) {
     const started = Date.now();
     for (let s = seq; s < Math.min(count, seq + chunk); s++) {
       while (pending.size >= maxOutstanding) await Promise.race(pending);
+      if (options.valve !== undefined) await options.valve.passed();
       const { topic, payload } = reading(s, t0S);
+      options.onIssued?.(s + 1);
       const p: Promise<unknown> = client.publishAsync(topic, payload, { qos: 1 }).then(() => {
         pending.delete(p);
         acked += 1;
