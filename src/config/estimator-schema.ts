@@ -94,6 +94,10 @@ export const publishSchema = z
     retain: z.boolean().default(false),
     includeCovariance: z.boolean().default(false),
     smoothedTopic: topicTemplateSchema.exactOptional(),
+    /** Retained per-entity health (state, reasons, per-sensor states), re-published on each change. */
+    healthTopic: topicTemplateSchema.default('statecast/{estimator}/{entity}/health'),
+    /** Every health transition (of a track or a sensor) as an event, not retained; `{estimator}` only. */
+    healthEventTopic: z.string().min(1).regex(/^[^+#]*$/, { error: 'expected a topic without wildcards' }).default('statecast/{estimator}/health-events'),
   })
   .superRefine((p, ctx) => {
     if (p.mode === 'fixed-rate' && p.rateHz === undefined) {

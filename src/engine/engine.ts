@@ -182,47 +182,65 @@ export class Engine implements EngineView {
     }
   }
 
-  /** One health tick: evaluates every track and sensor, emitting `health:changed` on transitions. */
+  /** One health tick: evaluates every track and sensor, publishing and emitting each transition. */
   evaluateHealth(nowMs: number): void {
     const nowS = nowMs / 1000;
-    const reasons = this.reasonScratch;
     for (const est of this.estimators) {
-      const t = est.runtime.health;
-      for (const record of est.registry.records()) {
-        const track = record.track;
-        let worst: HealthState = 'ok';
-        const trackReasons: HealthReason[] = [];
-        for (let s = 0; s < record.sensorHealth.length; s++) {
-          reasons.length = 0;
-          const raw = rawSensorHealth(track, s, nowS, t, reasons, record.lastHeardMs[s]! / 1000);
-          const latch = record.sensorHealth[s]!;
-          const from = latch.state;
-          if (latch.feed(raw, reasons.slice(), t)) {
-            this.events.emit('health:changed', {
-              estimator: est.runtime.name, entity: record.entity, sensor: est.runtime.sensors[s]!.name,
-              from, to: latch.state, reasons: latch.reasons, tS: nowS,
-            });
-          }
-          worst = worseOf(worst, raw);
-          for (const r of reasons) if (!trackReasons.includes(r)) trackReasons.push(r);
-        }
-        reasons.length = 0;
-        const numerics = track.counters.numericRefusals !== record.numericsSeen;
-        record.numericsSeen = track.counters.numericRefusals;
-        const rawTrack = worseOf(worst, rawTrackHealth(track, nowS, t, numerics, reasons));
-        for (const r of reasons) if (!trackReasons.includes(r)) trackReasons.push(r);
-        const latch = record.trackLatch;
-        const from = latch.state;
-        if (latch.feed(rawTrack, trackReasons, t)) {
-          record.trackHealth = { state: latch.state, reasons: latch.reasons };
-          this.events.emit('health:changed', {
-            estimator: est.runtime.name, entity: record.entity, sensor: null, from, to: latch.state, reasons: latch.reasons, tS: nowS,
-          });
-        } else if (latch.state !== 'ok') {
-          record.trackHealth = { state: latch.state, reasons: latch.reasons };
-        }
-      }
+      for (const record of est.registry.records()) this.evaluateTrackHealth(est, record, nowS);
     }
+  }
+
+  private evaluateTrackHealth(est: Estimators, record: TrackRecord, nowS: number): void {
+    const t = est.runtime.health;
+    const track = record.track;
+    const reasons = this.reasonScratch;
+    let worst: HealthState = 'ok';
+    let changed = false;
+    const trackReasons: HealthReason[] = [];
+    for (let s = 0; s < record.sensorHealth.length; s++) {
+      reasons.length = 0;
+      const raw = rawSensorHealth(track, s, nowS, t, reasons, record.lastHeardMs[s]! / 1000);
+      const latch = record.sensorHealth[s]!;
+      const from = latch.state;
+      if (latch.feed(raw, reasons.slice(), t)) {
+        changed = true;
+        this.healthChanged(est, record, { sensor: est.runtime.sensors[s]!.name, from, to: latch.state, reasons: latch.reasons, tS: nowS });
+      }
+      worst = worseOf(worst, raw);
+      for (const r of reasons) if (!trackReasons.includes(r)) trackReasons.push(r);
+    }
+    reasons.length = 0;
+    const numerics = track.counters.numericRefusals !== record.numericsSeen;
+    record.numericsSeen = track.counters.numericRefusals;
+    const rawTrack = worseOf(worst, rawTrackHealth(track, nowS, t, numerics, reasons));
+    for (const r of reasons) if (!trackReasons.includes(r)) trackReasons.push(r);
+    const latch = record.trackLatch;
+    const from = latch.state;
+    if (latch.feed(rawTrack, trackReasons, t)) {
+      changed = true;
+      this.healthChanged(est, record, { sensor: null, from, to: latch.state, reasons: latch.reasons, tS: nowS });
+    }
+    if (latch.state !== record.trackHealth.state || latch.reasons !== record.trackHealth.reasons) {
+      record.trackHealth = { state: latch.state, reasons: latch.reasons };
+    }
+    if (changed) this.publishHealth(est, record, nowS);
+  }
+
+  private healthChanged(
+    est: Estimators, record: TrackRecord,
+    change: { sensor: string | null; from: HealthState; to: HealthState; reasons: readonly HealthReason[]; tS: number },
+  ): void {
+    const event = { estimator: est.runtime.name, entity: record.entity, ...change };
+    this.publisher.publish(est.runtime.healthEventTopic, JSON.stringify(event), 1, false);
+    this.events.emit('health:changed', event);
+  }
+
+  /** The retained per-entity health document: the track's state and each sensor's. */
+  private publishHealth(est: Estimators, record: TrackRecord, nowS: number): void {
+    const sensors: Record<string, { state: HealthState; reasons: readonly HealthReason[] }> = {};
+    record.sensorHealth.forEach((l, i) => { sensors[est.runtime.sensors[i]!.name] = { state: l.state, reasons: l.reasons }; });
+    const doc = { estimator: est.runtime.name, entity: record.entity, t: nowS, state: record.trackLatch.state, reasons: record.trackLatch.reasons, sensors };
+    this.publisher.publish(record.healthTopic, JSON.stringify(doc), 1, true);
   }
 
   /** Drops tracks not heard from for their estimator's idle time; returns how many went. */

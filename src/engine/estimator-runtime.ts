@@ -45,6 +45,8 @@ export interface EstimatorRuntime {
   readonly serializer: EstimateSerializer;
   readonly estimateTopic: TopicTemplate;
   readonly smoothedTopic: TopicTemplate | null;
+  readonly healthTopic: TopicTemplate;
+  readonly healthEventTopic: string;
   readonly health: HealthThresholds;
 }
 
@@ -109,6 +111,8 @@ export function buildEstimatorRuntime(cfg: DeepReadonly<EstimatorConfig>): Estim
     wildcardNames,
     serializer: new EstimateSerializer(cfg.name, names, cfg.publish.includeCovariance),
     estimateTopic: compileTemplate(cfg.publish.topic, cfg.name, wildcardNames),
+    healthTopic: compileTemplate(cfg.publish.healthTopic, cfg.name, wildcardNames),
+    healthEventTopic: cfg.publish.healthEventTopic.replaceAll('{estimator}', cfg.name),
     smoothedTopic: cfg.smoothing.lagSteps > 0 && cfg.publish.smoothedTopic !== undefined
       ? compileTemplate(cfg.publish.smoothedTopic, cfg.name, wildcardNames)
       : null,

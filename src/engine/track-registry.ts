@@ -15,6 +15,7 @@ export interface TrackRecord {
   readonly track: Track;
   readonly estimateTopic: string;
   readonly smoothedTopic: string | null;
+  readonly healthTopic: string;
   lastSeenMs: number;
   lastSmoothedTimeS: number;
   /** Newest payload per kind, for WebSocket snapshots. */
@@ -66,6 +67,7 @@ export class TrackRegistry {
       track,
       estimateTopic: rt.estimateTopic(entity, captures),
       smoothedTopic: rt.smoothedTopic === null ? null : rt.smoothedTopic(entity, captures),
+      healthTopic: rt.healthTopic(entity, captures),
       lastSeenMs: nowMs,
       lastSmoothedTimeS: Number.NaN,
       latest: {},

@@ -44,6 +44,10 @@ export class Track {
   readonly history: TrackHistory;
   readonly smoother: FixedLagSmoother | null;
   private readonly n: number;
+  /** Per sensor: event time of the first gate rejection of its current run. */
+  private readonly runStartS: Float64Array;
+  /** Per sensor: event time of its last accepted in-order measurement. */
+  private readonly lastAcceptedS: Float64Array;
 
   /** Creates an uninitialized track holding the prior. */
   constructor(readonly settings: TrackSettings, private readonly ws: TrackWorkspace) {
@@ -56,6 +60,18 @@ export class Track {
     );
     this.history = new TrackHistory(n, ws.maxM, settings.maxEntries, settings.snapshotEvery);
     this.smoother = settings.lagSteps > 0 ? new FixedLagSmoother(n, settings.lagSteps) : null;
+    this.runStartS = new Float64Array(settings.sensors.length).fill(Number.NaN);
+    this.lastAcceptedS = new Float64Array(settings.sensors.length).fill(Number.NaN);
+  }
+
+  /** Latest acceptance time of any sensor but `sensor` (NaN when none). */
+  private lastAcceptedOtherS(sensor: number): number {
+    let latest = Number.NEGATIVE_INFINITY;
+    for (let i = 0; i < this.lastAcceptedS.length; i++) {
+      const t = this.lastAcceptedS[i]!;
+      if (i !== sensor && t > latest) latest = t;
+    }
+    return latest === Number.NEGATIVE_INFINITY ? Number.NaN : latest;
   }
 
   /** Time of the newest applied measurement (or of the state when the history is empty). */
@@ -163,9 +179,17 @@ export class Track {
     if (verdict === 'applied' || verdict === 'initialized') {
       const m = this.settings.sensors[sensor]!.model.dim;
       h.insertAt(h.count, tS, sensor, ws.y, m, hasR ? ws.R : null);
-    } else if (verdict === 'gate' && this.stats[sensor]!.consecutiveGateRejections >= this.settings.maxConsecutiveRejections) {
+      this.lastAcceptedS[sensor] = tS;
+    } else if (verdict === 'gate') {
+      const run = this.stats[sensor]!.consecutiveGateRejections;
+      if (run === 1) this.runStartS[sensor] = tS;
       // Only an in-order run triggers the policy: a late outlier says nothing about the present.
-      this.onRejectionRun(tS);
+      // And only when no other sensor was accepted during the run: one sensor disagreeing
+      // while another still agrees with the track is a faulty sensor (health reports it),
+      // not a lost track, and restarting would let the faulty sensor drag the estimate.
+      if (run >= this.settings.maxConsecutiveRejections && !(this.lastAcceptedOtherS(sensor) >= this.runStartS[sensor]!)) {
+        this.onRejectionRun(tS);
+      }
     }
     return verdict;
   }

@@ -163,6 +163,19 @@ describe('track', () => {
     expect(track.x[0]).toBeCloseTo(501, 12);
   });
 
+  it('keeps the track when one sensor is rejected in a run while another still agrees', () => {
+    const est = estimator({ gateProbability: 0.99, maxConsecutiveRejections: 3, onRejectionRun: 'reinitialize' });
+    const { track } = feed(est, readings(10));
+    const before = track.counters.reinitializations;
+    for (let k = 0; k < 6; k++) {
+      expect(track.ingest(0, [500], null, 20 + k, 1e12)).toBe('gate');
+      expect(track.ingest(1, [track.x[1]!], null, 20.5 + k, 1e12)).toBe('applied');
+    }
+    expect(track.counters.reinitializations).toBe(before);
+    expect(track.initialized).toBe(true);
+    expect(track.stats[0]!.consecutiveGateRejections).toBe(6);
+  });
+
   it('inflates P and keeps going after a run of gate rejections under the inflate policy', () => {
     const est = estimator({ gateProbability: 0.99, maxConsecutiveRejections: 2, onRejectionRun: 'inflate', inflateFactor: 1e6 });
     const { track } = feed(est, readings(10));
