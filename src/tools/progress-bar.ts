@@ -18,16 +18,23 @@ export class ProgressBar {
     this.now = wallClockOf(io);
   }
 
-  /** Redraws with done/total and a short detail text, unless drawn less than 100 ms ago. */
+  /**
+   * Redraws with done/total and a short detail text, unless drawn less than 100 ms ago; with
+   * total 0 (an open-ended run) only the label and detail are shown.
+   */
   update(done: number, total: number, detail: string): void {
     if (!this.io.isTTY) return;
     const t = this.now();
     if (t - this.lastMs < MIN_INTERVAL_MS) return;
     this.lastMs = t;
-    const share = total > 0 ? Math.min(1, done / total) : 0;
-    const full = Math.round(share * WIDTH);
-    const bar = `${'#'.repeat(full)}${'-'.repeat(WIDTH - full)}`;
-    this.io.stderr.write(`\r\x1b[K${this.label} [${bar}] ${(share * 100).toFixed(0).padStart(3)}%  ${detail}`);
+    if (total > 0) {
+      const share = Math.min(1, done / total);
+      const full = Math.round(share * WIDTH);
+      const bar = `${'#'.repeat(full)}${'-'.repeat(WIDTH - full)}`;
+      this.io.stderr.write(`\r\x1b[K${this.label} [${bar}] ${(share * 100).toFixed(0).padStart(3)}%  ${detail}`);
+    } else {
+      this.io.stderr.write(`\r\x1b[K${this.label}  ${detail}`);
+    }
     this.drawn = true;
   }
 
