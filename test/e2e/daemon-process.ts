@@ -14,6 +14,8 @@ export const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
 export interface DaemonProcess {
   /** The dashboard's base URL, e.g. `http://127.0.0.1:40123/`. */
   readonly url: string;
+  /** Date.now() when the URL was printed: the daemon (and its simulator) had started by then. */
+  readonly readyAtMs: number;
   /** The last lines the daemon wrote to stderr (its logs). */
   logTail(): string;
   /** Stops the daemon and waits for it to exit. Idempotent. */
@@ -38,7 +40,7 @@ export async function startDaemon(configFile: string, startupMs: number): Promis
   const stop = stopper(child);
   try {
     const url = await printedUrl(child, startupMs, logTail);
-    return { url, logTail, stop };
+    return { url, readyAtMs: Date.now(), logTail, stop };
   } catch (error) {
     await stop();
     throw error;
