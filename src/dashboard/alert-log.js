@@ -24,7 +24,7 @@ export class AlertLog {
 function entry(a) {
   const where = a.sensor === null ? a.entity : `${a.entity} · ${a.sensor}`;
   const reasons = a.reasons.length === 0 ? '' : a.reasons.map(reasonWords).join(', ');
-  return el('li', { className: 'alert', dataset: { entity: a.entity, sensor: a.sensor ?? '', to: a.to } },
+  return el('li', { className: 'alert', dataset: { entity: a.entity, sensor: a.sensor ?? '', to: a.to, reasons: a.reasons.join(' ') } },
     el('time', { className: 'alert-time' }, clockTime(a.tS)),
     el('span', { className: 'alert-where', title: `${a.estimator}/${where}` }, where),
     el('span', { className: 'alert-change' }, healthBadge(a.from), el('span', { className: 'arrow' }, '→'), healthBadge(a.to)),

@@ -1,7 +1,7 @@
 /**
  * The dashboard against a stand-in daemon (fake-stream-server.ts) for what the real daemon
- * cannot yet be made to do on demand: measurement frames, refusing them, a dropped
- * connection, and twelve tracks at 10 Hz. Tests run in order on one page; waits are bounded.
+ * cannot be made to do on demand: chosen measurement frames, refusing them as an older daemon
+ * does, a dropped connection, and twelve tracks at 10 Hz. Tests run in order on one page; waits are bounded.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Page } from 'playwright-core';
@@ -31,9 +31,9 @@ function sendTankSeconds(fromS: number): void {
     const level = 4 + 0.001 * k;
     server.sendEstimate('tanks', 'tank-a', 'filtered', t, [level, 0.001, 0.03], [0.01, 0.001, 0.01]);
     const verdict = k >= 20 ? 'gate' : 'applied';
-    server.sendFrame({ type: 'measurement', data: { estimator: 'tanks', entity: 'tank-a', sensor: 'pressure', t, values: [level + 0.03], nis: k >= 20 ? 40 : 0.8, verdict } });
+    server.sendMeasurement({ estimator: 'tanks', entity: 'tank-a', sensor: 'pressure', t, values: [level + 0.03], nis: k >= 20 ? 40 : 0.8, verdict });
     if (k % 10 === 0) {
-      server.sendFrame({ type: 'measurement', data: { estimator: 'tanks', entity: 'tank-a', sensor: 'level', t, values: [level], nis: 0.5, verdict: 'applied' } });
+      server.sendMeasurement({ estimator: 'tanks', entity: 'tank-a', sensor: 'level', t, values: [level], nis: 0.5, verdict: 'applied' });
     }
   }
 }

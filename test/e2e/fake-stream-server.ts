@@ -1,6 +1,7 @@
 /**
- * A stand-in daemon for the dashboard tests that need what the real one cannot yet do on
- * demand (measurement frames, a refused field, a dropped connection, a 10 Hz flood): the
+ * A stand-in daemon for the dashboard tests that need what the real one cannot do on
+ * demand (chosen measurement frames, an older daemon refusing them, a dropped connection, a
+ * 10 Hz flood): the
  * dashboard's files through the real static handler, the vendored chart files, canned API
  * answers, and a WebSocket speaking protocol v1 with frames built by the daemon's own code.
  * Binds 127.0.0.1 on a port the kernel picks.
@@ -12,7 +13,9 @@ import { fileURLToPath } from 'node:url';
 import { WebSocketServer, type WebSocket } from 'ws';
 import { staticFileRoute } from '../../src/adapters/http/static-files.js';
 import { parseRequestPath } from '../../src/adapters/http/request-path.js';
-import { errorFrame, estimateFrame, helloFrame, snapshotFrame, subscribedFrame } from '../../src/adapters/ws/ws-protocol.js';
+import {
+  errorFrame, estimateFrame, helloFrame, measurementFrame, snapshotFrame, subscribedFrame, type MeasurementOutcome,
+} from '../../src/adapters/ws/ws-protocol.js';
 import { DASHBOARD_VENDOR_ASSETS } from '../../src/dashboard/vendor-assets.js';
 import { EstimateSerializer, type EstimateKind } from '../../src/engine/estimate-message.js';
 
@@ -27,7 +30,7 @@ export interface FakeSensor {
 /** The stand-in and the knobs the tests turn. */
 export interface FakeStreamServer {
   readonly url: string;
-  /** Whether a subscribe asking for measurement frames is accepted (else refused, as today's daemon does). */
+  /** Whether a subscribe asking for measurement frames is accepted (else refused, as a daemon from before them does). */
   acceptMeasurements: boolean;
   /** Every client request received, parsed, in order. */
   readonly requests: Record<string, unknown>[];
@@ -35,8 +38,8 @@ export interface FakeStreamServer {
   connections(): number;
   /** Sends an estimate of `entity` (estimator `estimator`) to every subscribed client. */
   sendEstimate(estimator: string, entity: string, kind: EstimateKind, tS: number, x: readonly number[], sigma: readonly number[]): void;
-  /** Sends a frame object as JSON to every subscribed client. */
-  sendFrame(frame: object): void;
+  /** Sends a measurement frame to every subscribed client. */
+  sendMeasurement(m: MeasurementOutcome): void;
   /** Cuts every WebSocket connection (no close handshake). */
   dropClients(): void;
   /** Detail API answers: sensors per `estimator/entity`. */
@@ -131,7 +134,7 @@ export async function startFakeStreamServer(): Promise<FakeStreamServer> {
       const payload = serializers.get(estimator)!.serialize(entity, kind, tS, Float64Array.from(x), P, 0, false, { state: 'ok', reasons: [] });
       broadcast(estimateFrame(payload));
     },
-    sendFrame: (frame) => broadcast(JSON.stringify(frame)),
+    sendMeasurement: (m) => broadcast(measurementFrame(m)),
     dropClients() {
       for (const client of wss.clients) client.terminate();
     },
