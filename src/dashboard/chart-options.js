@@ -30,17 +30,31 @@ export function sensorColour(i) {
 
 function axes(yLabel) {
   const common = { stroke: PALETTE.ink, font: FONT, grid: { stroke: PALETTE.grid, width: 1 }, ticks: { stroke: PALETTE.grid } };
-  const y = { ...common, label: yLabel, labelFont: FONT, labelSize: 16, size: 64, values: (u, splits) => splits.map(tickText) };
+  const y = {
+    ...common, label: yLabel, labelFont: FONT, labelSize: 16, size: 64,
+    values: (u, splits, axis, space, incr) => splits.map((v) => tickText(v, incr)),
+  };
   return [common, y];
 }
 
-/** Tick text that stays short and exact enough for tiny (σ², rates) and large values. */
-export function tickText(v) {
+/**
+ * Tick text with as many decimals as the tick step needs (so 7.215 and 7.220 do not both read
+ * 7.22), in exponent form for very small or large steps.
+ */
+export function tickText(v, stepSize) {
   if (v === null || v === undefined) return '';
-  if (v === 0) return '0';
-  const a = Math.abs(v);
-  if (a < 1e-3 || a >= 1e5) return v.toExponential(1);
-  return String(Number(v.toPrecision(3)));
+  const step = Math.abs(stepSize);
+  if (!(step > 0) || !Number.isFinite(step)) return String(Number(v.toPrecision(3)));
+  let decimals = Math.max(0, -Math.floor(Math.log10(step) + 1e-9));
+  if (Math.abs(step * 10 ** decimals - Math.round(step * 10 ** decimals)) > 1e-6) decimals += 1;
+  if (decimals > 6 || Math.abs(v) >= 1e6) return v === 0 ? '0' : v.toExponential(Math.min(3, decimals > 6 ? 1 : 2));
+  return v.toFixed(decimals);
+}
+
+/** Tick text for a log axis: plain from 0.01 to 10⁴, else like 1e-4. */
+function logTickText(v) {
+  if (v === null || v === undefined) return '';
+  return v >= 0.01 && v < 1e4 ? String(Number(v.toPrecision(3))) : v.toExponential(0);
 }
 
 function line(label, stroke, extra = {}) {
@@ -120,6 +134,7 @@ export function traceChartOptions(o) {
   const opts = base(o.width, 'trace(P)', o.holder, [line('trace(P)', PALETTE.trace, { width: 2 })], [rejectionMarkers(o.rejections)]);
   opts.scales.y = { distr: 3 };
   opts.axes[1].filter = decadesOnly;
+  opts.axes[1].values = (u, splits) => splits.map(logTickText);
   return opts;
 }
 
