@@ -16,6 +16,7 @@ import {
   logSchema,
   simulatorSchema,
 } from './service-schema.js';
+import { scaleOutSchema } from './scale-out-schema.js';
 
 /** Runs a check even when sibling fields have failed, so every mistake is reported at once. */
 const always = { when: (payload: { value: unknown }) => typeof payload.value === 'object' && payload.value !== null };
@@ -41,6 +42,7 @@ export const configSchema = z
     checkpoint: checkpointSchema.prefault({}),
     log: logSchema.prefault({}),
     simulator: simulatorSchema.prefault({}),
+    scaleOut: scaleOutSchema.exactOptional(),
     estimators: estimatorListSchema,
   })
   .superRefine((c, ctx) => {
