@@ -6,12 +6,14 @@
 import { writeFileSync } from 'node:fs';
 import { benchCore } from './core-bench.js';
 import { benchDecode } from './decode-bench.js';
+import { benchE2e } from './e2e-bench.js';
 
 type Section = () => Promise<Record<string, number>> | Record<string, number>;
 
 const SECTIONS: Record<string, Section> = {
   core: benchCore,
   decode: benchDecode,
+  e2e: benchE2e,
 };
 
 /** Targets from the issues, shown beside each figure (`<=` or `>=`). */
@@ -19,6 +21,8 @@ const TARGETS: Record<string, string> = {
   'core.cv2d_ns': '<= 800',
   'core.speedup_vs_naive': '>= 8',
   'core.bytes_per_track': '<= 8192',
+  'e2e.ratio_to_relay': '>= 0.5',
+  'e2e.p99_ms': '<= 5',
 };
 
 function parseArgs(argv: readonly string[]): { json?: string; only?: string[] } {
