@@ -1,0 +1,208 @@
+/**
+ * Scale-out mode's input and checkpoint adapter: connects to NATS, owns the partitions
+ * p mod N = k, feeds their messages to the engine and keeps their snapshots (owned-partition.ts
+ * does the per-partition work). Ready when connected and every owned partition has caught up;
+ * `stop()` writes final snapshots and releases the partitions. start/stop are idempotent.
+ */
+import { hostname as osHostname } from 'node:os';
+import { jetstreamManager } from '@nats-io/jetstream';
+import { connect } from '@nats-io/transport-node';
+import type { DeepReadonly } from '../../config/deep-freeze.js';
+import type { ScaleOutConfig } from '../../config/scale-out-schema.js';
+import type { Engine } from '../../engine/engine.js';
+import type { EngineHandle } from '../../engine/engine-handle.js';
+import { provisionJetStream } from './jetstream-provisioning.js';
+import { OwnedPartition, type PartitionContext, type PartitionPhase, type ScaleOutCounters, type ScaleOutLogger } from './owned-partition.js';
+import { PartitionOwnership } from './partition-ownership.js';
+import { PartitionSnapshotStore } from './partition-snapshots.js';
+import { dropPartitions, tracksByPartition } from './partition-tracks.js';
+import { ownedPartitions, resolveReplicaIdentity, type ReplicaIdentity } from './replica-identity.js';
+import { ScaleOutEvents } from './scale-out-events.js';
+import { PartitionRouter } from './subject-routes.js';
+
+type NatsConnection = Awaited<ReturnType<typeof connect>>;
+
+/** What a node is built from. */
+export interface ScaleOutNodeOptions {
+  readonly config: DeepReadonly<ScaleOutConfig>;
+  /** The engine the app runs; a lost partition's tracks leave it through `makeEngine` + swap. */
+  readonly handle: EngineHandle;
+  /** A fresh engine for the same estimators, sharing the handle's event bus. */
+  readonly makeEngine: () => Engine;
+  /** Every sensor topic pattern of the estimators (for the partition check and topics). */
+  readonly sensorPatterns: readonly string[];
+  /** The structural configuration fingerprint snapshots carry. */
+  readonly fingerprint: string;
+  readonly logger: ScaleOutLogger;
+  /** Epoch milliseconds; Date.now by default. */
+  readonly now?: () => number;
+  /** Host name (for `ordinal: hostname` and the default replica id); os.hostname() by default. */
+  readonly hostname?: string;
+  readonly pid?: number;
+}
+
+/** One partition as the node reports it. */
+export interface PartitionStatus {
+  readonly partition: number;
+  readonly phase: PartitionPhase;
+  readonly epoch: number;
+  readonly seq: number;
+  readonly snapshotSeq: number;
+  readonly pending: number;
+  readonly caughtUp: boolean;
+}
+
+/** Figures for metrics and the readiness probe. */
+export interface ScaleOutStats {
+  readonly ready: boolean;
+  readonly connected: boolean;
+  readonly replica: string;
+  readonly ordinal: number;
+  readonly counters: Readonly<ScaleOutCounters>;
+  readonly partitions: readonly PartitionStatus[];
+}
+
+const POLL_MS = 200;
+
+/** See the module comment. */
+export class ScaleOutNode {
+  readonly events = new ScaleOutEvents();
+  readonly identity: ReplicaIdentity;
+  private readonly counters: ScaleOutCounters = { drift: 0, unrouted: 0, snapshots: 0 };
+  private readonly now: () => number;
+  private nc: NatsConnection | null = null;
+  private parts: OwnedPartition[] = [];
+  private timers: NodeJS.Timeout[] = [];
+  private stopWatch: (() => void) | null = null;
+  private connected = false;
+  private started: Promise<void> | null = null;
+  private stopped: Promise<void> | null = null;
+  private lastReady = false;
+  private pendingDrops = new Set<number>();
+
+  constructor(private readonly options: ScaleOutNodeOptions) {
+    this.now = options.now ?? Date.now;
+    this.identity = resolveReplicaIdentity(options.config, options.hostname ?? osHostname(), options.pid ?? process.pid);
+  }
+
+  /** Connects, claims the owned partitions and starts consuming them (resolves once all consume). */
+  start(): Promise<void> {
+    this.started ??= this.run();
+    return this.started;
+  }
+
+  private async run(): Promise<void> {
+    const o = this.options;
+    const c = o.config;
+    const nc = await connect({ servers: [...c.servers], name: this.identity.replica, maxReconnectAttempts: -1, reconnectTimeWait: 250 });
+    this.nc = nc;
+    this.connected = true;
+    void this.watchConnection(nc);
+    const jsm = await jetstreamManager(nc);
+    const pieces = await provisionJetStream(jsm, c);
+    const ownership = new PartitionOwnership(pieces.owners, this.identity, c.leaseMs);
+    const ctx: PartitionContext = {
+      config: c,
+      js: jsm.jetstream(),
+      ownership,
+      snapshots: new PartitionSnapshotStore(pieces.snapshots, o.fingerprint),
+      router: new PartitionRouter(o.sensorPatterns, c.partitions, c.subjectPrefix),
+      handle: o.handle,
+      events: this.events,
+      log: o.logger,
+      now: this.now,
+      counters: this.counters,
+      stopping: () => this.stopped !== null,
+      dropTracks: (p) => this.dropTracks(p),
+      changed: () => this.checkReady(),
+    };
+    this.parts = ownedPartitions(c.partitions, this.identity).map((p) => new OwnedPartition(p, ctx));
+    const byPartition = new Map(this.parts.map((p) => [p.partition, p]));
+    this.stopWatch = ownership.watch((partition, record) => byPartition.get(partition)?.observed(record));
+    this.timers.push(setInterval(() => { for (const p of this.parts) void p.renew(); }, c.renewMs));
+    this.timers.push(setInterval(() => void this.snapshotRound(false), c.snapshotIntervalS * 1000));
+    this.timers.push(setInterval(() => { for (const p of this.parts) void p.pollPending(); }, POLL_MS));
+    for (const t of this.timers) t.unref();
+    o.logger.info({ replica: this.identity.replica, ordinal: this.identity.ordinal, replicas: this.identity.replicas, partitions: this.parts.length }, 'claiming partitions');
+    await Promise.all(this.parts.map((p) => p.start()));
+    this.checkReady();
+  }
+
+  private async watchConnection(nc: NatsConnection): Promise<void> {
+    for await (const s of nc.status()) {
+      if (s.type === 'disconnect') {
+        this.connected = false;
+        for (const p of this.parts) p.disconnected();
+        this.checkReady();
+      } else if (s.type === 'reconnect') {
+        this.connected = true;
+        // Prove ownership again before anything else: the server may have seen a claim meanwhile.
+        for (const p of this.parts) void p.renew();
+      }
+    }
+  }
+
+  private dropTracks(partition: number): void {
+    if (this.pendingDrops.size === 0) {
+      // Several partitions are often lost together (a fencing claim): rebuild the engine once.
+      queueMicrotask(() => {
+        const dropped = new Set(this.pendingDrops);
+        this.pendingDrops.clear();
+        const n = dropPartitions(this.options.handle, this.options.makeEngine, dropped, this.options.config.partitions, this.now());
+        this.options.logger.info({ partitions: [...dropped], tracks: n }, 'dropped the tracks of lost partitions');
+      });
+    }
+    this.pendingDrops.add(partition);
+  }
+
+  /** Snapshots every owned partition with news (all built in one tick, then written). */
+  private async snapshotRound(final: boolean): Promise<void> {
+    if (this.stopped !== null && !final) return;
+    const groups = tracksByPartition(this.options.handle.engine, this.options.config.partitions);
+    const prepared = this.parts.map((p) => [p, p.prepareSnapshot(groups)] as const);
+    await Promise.all(prepared.map(([p, s]) => p.commitSnapshot(s, final)));
+  }
+
+  /** True when connected, started, not stopping, and every owned partition consumes and has caught up. */
+  ready(): boolean {
+    if (!this.connected || this.stopped !== null || this.parts.length === 0) return false;
+    return this.parts.every((p) => p.phase === 'consuming' && p.caughtUp);
+  }
+
+  private checkReady(): void {
+    const ready = this.ready();
+    if (ready === this.lastReady) return;
+    this.lastReady = ready;
+    this.events.emit('ready:changed', { ready });
+    this.options.logger.info({ ready }, ready ? 'every owned partition has caught up: ready' : 'not ready');
+  }
+
+  /** Figures for metrics and probes. */
+  stats(): ScaleOutStats {
+    return {
+      ready: this.ready(),
+      connected: this.connected,
+      replica: this.identity.replica,
+      ordinal: this.identity.ordinal,
+      counters: { ...this.counters },
+      partitions: this.parts.map((p) => ({
+        partition: p.partition, phase: p.phase, epoch: p.epoch, seq: p.seq, snapshotSeq: p.snapshotSeq, pending: p.pending, caughtUp: p.caughtUp,
+      })),
+    };
+  }
+
+  /** Stops consuming, writes final snapshots, releases the partitions and closes the connection. */
+  stop(): Promise<void> {
+    this.stopped ??= (async () => {
+      this.checkReady();
+      while (this.timers.length > 0) clearInterval(this.timers.pop());
+      await this.started?.catch(() => undefined);
+      await Promise.all(this.parts.map((p) => p.stopIntake()));
+      await this.snapshotRound(true);
+      for (const p of this.parts) p.markStopped();
+      this.stopWatch?.();
+      await this.nc?.close().catch(() => undefined);
+    })();
+    return this.stopped;
+  }
+}
