@@ -54,6 +54,24 @@ export class ByteBlockWriter {
     this.used = pos;
   }
 
+  /**
+   * Room for `bytes` more bytes: returns the current block, whose bytes from `position` on the
+   * caller may fill directly before moving `position` past them (for runs of small writes).
+   */
+  reserve(bytes: number): Buffer {
+    this.ensure(bytes);
+    return this.block;
+  }
+
+  /** Where the next byte goes in the block returned by reserve. */
+  get position(): number {
+    return this.used;
+  }
+
+  set position(pos: number) {
+    this.used = pos;
+  }
+
   /** The full blocks since the last call, in order. */
   takeFull(): Buffer[] {
     const out = this.full;

@@ -39,23 +39,27 @@ export function writeCompactNumber(out: Uint8Array, pos: number, v: number): num
   }
   if (v < 0) out[pos++] = 0x2d;
   let e = Math.floor(Math.log10(a));
-  let m = Math.round(scale(a, 8 - e));
-  if (m >= 1e9) m = Math.round(scale(a, 8 - ++e));
-  else if (m < 1e8) m = Math.round(scale(a, 8 - --e));
-  if (m >= 1e9) {
-    m = 1e8;
+  let r = Math.round(scale(a, 8 - e));
+  if (r >= 1e9) r = Math.round(scale(a, 8 - ++e));
+  else if (r < 1e8) r = Math.round(scale(a, 8 - --e));
+  if (r >= 1e9) {
+    r = 1e8;
     e += 1;
   }
+  // Below 10^9 < 2^31: int32 arithmetic from here on.
+  let m = r | 0;
   let digits = 9;
-  while (m % 10 === 0) {
-    m /= 10;
+  let q = (m / 10) | 0;
+  while (m === q * 10) {
+    m = q;
+    q = (m / 10) | 0;
     digits -= 1;
   }
   const d = digitScratch;
   for (let i = digits - 1; i >= 0; i--) {
-    const q = Math.floor(m / 10);
-    d[i] = ZERO + (m - 10 * q);
-    m = q;
+    const next = (m / 10) | 0;
+    d[i] = ZERO + (m - 10 * next);
+    m = next;
   }
   if (e >= 0 && e < 21) {
     for (let i = 0; i < digits; i++) {

@@ -20,6 +20,10 @@ import { writeCompactNumber } from './compact-number.js';
 
 /** Bytes a compact number may take (see writeCompactNumber). */
 const CELL_BYTES = 32;
+const COVARIANCE_KEY = Buffer.from(',"covariance":[');
+const COMMA = 0x2c;
+const OPEN = 0x5b;
+const CLOSE = 0x5d;
 
 /** JSON has no NaN or Infinity: those become null so every line parses. */
 export function jsonNumber(v: number): string {
@@ -127,16 +131,23 @@ export class EstimateLineFormatter {
         this.cellLength[k] = writeCompactNumber(this.cells, k * CELL_BYTES, P[k]!) - k * CELL_BYTES;
       }
     }
-    out.text(',"covariance":[');
+    // One reservation for the whole matrix, then plain byte stores: this runs once per estimate.
+    const b = out.reserve(n * n * (CELL_BYTES + 1) + 2 * n + COVARIANCE_KEY.length + 2);
+    let pos = out.position;
+    for (let i = 0; i < COVARIANCE_KEY.length; i++) b[pos++] = COVARIANCE_KEY[i]!;
     for (let i = 0; i < n; i++) {
-      out.text(i === 0 ? '[' : ',[');
+      if (i > 0) b[pos++] = COMMA;
+      b[pos++] = OPEN;
       for (let j = 0; j < n; j++) {
-        if (j > 0) out.text(',');
+        if (j > 0) b[pos++] = COMMA;
         const k = j >= i ? i * n + j : j * n + i;
-        out.copy(this.cells, k * CELL_BYTES, this.cellLength[k]!);
+        const from = k * CELL_BYTES;
+        const to = from + this.cellLength[k]!;
+        for (let c = from; c < to; c++) b[pos++] = this.cells[c]!;
       }
-      out.text(']');
+      b[pos++] = CLOSE;
     }
+    out.position = pos;
     out.text('],"nis":[');
     nis?.writeTo(out, tS, tText);
     out.text(']}\n');
