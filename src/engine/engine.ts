@@ -41,6 +41,11 @@ export class Engine implements EngineView {
   private produced = 0;
   private readonly scratch = new Float64Array(64);
   private readonly reasonScratch: HealthReason[] = [];
+  /**
+   * The newest time the shell has passed in (a message's arrival or a health tick): queries
+   * answer relative to it, so the engine never reads a clock of its own.
+   */
+  private lastNowMs = 0;
 
   /** Builds every estimator from validated config (throws on a config the core cannot run). */
   constructor(
@@ -72,6 +77,7 @@ export class Engine implements EngineView {
    */
   handleMessage(topic: string, payload: Uint8Array, arrivalMs: number): void {
     this.received += 1;
+    if (arrivalMs > this.lastNowMs) this.lastNowMs = arrivalMs;
     let routed = false;
     for (let e = 0; e < this.estimators.length; e++) {
       const est = this.estimators[e]!;
@@ -184,6 +190,7 @@ export class Engine implements EngineView {
 
   /** One health tick: evaluates every track and sensor, publishing and emitting each transition. */
   evaluateHealth(nowMs: number): void {
+    this.lastNowMs = nowMs;
     const nowS = nowMs / 1000;
     for (const est of this.estimators) {
       for (const record of est.registry.records()) this.evaluateTrackHealth(est, record, nowS);
@@ -301,7 +308,7 @@ export class Engine implements EngineView {
 
   listTracks(): TrackSummary[] {
     const out: TrackSummary[] = [];
-    const nowS = Date.now() / 1000;
+    const nowS = this.lastNowMs / 1000;
     for (const est of this.estimators) for (const r of est.registry.records()) out.push(this.summary(est, r, nowS));
     return out;
   }
@@ -312,7 +319,7 @@ export class Engine implements EngineView {
     if (est === undefined || record === undefined) return null;
     const track = record.track;
     const n = track.x.length;
-    const summary = this.summary(est, record, Date.now() / 1000);
+    const summary = this.summary(est, record, this.lastNowMs / 1000);
     const sensors: SensorSummary[] = track.stats.map((st, i) => {
       const rejected: Record<string, number> = {};
       for (const reason of ['gate', 'too-late', 'duplicate', 'future', 'numerics', 'not-initialized', 'malformed'] as const) {
@@ -340,7 +347,7 @@ export class Engine implements EngineView {
   resetTrack(estimator: string, entity: string): boolean {
     const record = this.find(estimator)?.registry.get(entity);
     if (record === undefined) return false;
-    record.track.reset(Date.now() / 1000);
+    record.track.reset(this.lastNowMs / 1000);
     record.latest = {};
     this.events.emit('track:evicted', { estimator, entity, why: 'reset' });
     return true;
