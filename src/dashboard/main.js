@@ -1,7 +1,7 @@
 /**
- * Wires the page: the WebSocket stream and the JSON API feed the store; one
- * requestAnimationFrame pass per frame applies what changed to the list, the alert log and
- * the selected track's charts (the charts at most every CHART_INTERVAL_MS).
+ * Wires the page: the WebSocket stream and the JSON API feed the store; requestAnimationFrame
+ * passes apply what changed to the list, the alert log and the selected track's charts (the
+ * charts at most every CHART_INTERVAL_MS, however many frames arrive meanwhile).
  */
 import { AlertLog } from './alert-log.js';
 import { fetchTrackDetail, fetchTracks, poll } from './api-client.js';
@@ -9,7 +9,7 @@ import { clockTime, healthBadge } from './dom.js';
 import { EntityCharts } from './entity-charts.js';
 import { renderSensorTable } from './sensor-table.js';
 import { StreamConnection } from './stream-connection.js';
-import { TrackList } from './track-list.js';
+import { reasonWords, TrackList } from './track-list.js';
 import { TrackStore } from './track-store.js';
 
 const CHART_INTERVAL_MS = 250;
@@ -23,6 +23,8 @@ const alertLog = new AlertLog($('alert-list'), $('alert-empty'));
 const charts = new EntityCharts($('estimate-charts'), $('consistency-charts'));
 let selectedKey = null;
 let framePending = false;
+let chartsTimer = 0;
+let chartsWanted = false;
 let lastChartsMs = -Infinity;
 let streamStatus = { state: 'connecting', measurements: null };
 
@@ -45,7 +47,7 @@ function select(key) {
 
 function renderSelectedHealth(record) {
   $('selected-health').replaceChildren(healthBadge(record.health.state));
-  $('selected-reasons').textContent = record.health.reasons.join(', ');
+  $('selected-reasons').textContent = record.health.reasons.map(reasonWords).join(', ');
 }
 
 /** The time of the newest estimate on screen (data-t holds it in epoch seconds). */
@@ -62,6 +64,21 @@ function schedule() {
   requestAnimationFrame(frame);
 }
 
+/**
+ * Asks for the work the store's changes need: a frame now for the list and the alert log, a
+ * chart redraw no sooner than CHART_INTERVAL_MS after the last one. Data of tracks not on
+ * screen asks for nothing, so a busy fleet does not keep the page drawing.
+ */
+function requestWork() {
+  if (store.listChanged.size > 0 || store.alertsChanged) schedule();
+  if (chartsTimer !== 0 || selectedKey === null || !store.dataChanged.has(selectedKey)) return;
+  const waitMs = Math.max(0, lastChartsMs + CHART_INTERVAL_MS - performance.now());
+  chartsTimer = setTimeout(() => {
+    chartsWanted = true;
+    schedule();
+  }, waitMs);
+}
+
 function frame(nowMs) {
   framePending = false;
   const changes = store.takeChanges();
@@ -71,15 +88,12 @@ function frame(nowMs) {
   const selected = selectedKey === null ? undefined : store.tracks.get(selectedKey);
   if (selected === undefined) return;
   if (changes.list.has(selectedKey)) renderSelectedHealth(selected);
-  if (!changes.data.has(selectedKey)) return;
-  if (nowMs - lastChartsMs >= CHART_INTERVAL_MS) {
-    lastChartsMs = nowMs;
-    charts.update();
-    renderAsOf(selected);
-  } else {
-    store.dataChanged.add(selectedKey); // not yet: keep it for a later frame
-    schedule();
-  }
+  if (!chartsWanted) return;
+  chartsWanted = false;
+  chartsTimer = 0;
+  lastChartsMs = nowMs;
+  charts.update();
+  renderAsOf(selected);
 }
 
 /** The track named in the address (#estimator/entity), else the first in the list. */
@@ -95,7 +109,7 @@ function onFrame(f) {
   else if (f.type === 'health') store.applyHealthChange(f.data);
   else if (f.type === 'measurement') store.applyMeasurement(f.data);
   else return;
-  schedule();
+  requestWork();
 }
 
 function onStatus(status) {
@@ -119,7 +133,7 @@ async function refreshList() {
   const body = await fetchTracks();
   if (body !== null) {
     store.applyTrackList(body);
-    schedule();
+    requestWork();
   }
 }
 
@@ -133,11 +147,14 @@ async function pollDetailNow() {
   if (detail === null || selectedKey !== record.key) return;
   store.applyDetail(detail);
   renderSensorTable($('sensor-table'), record);
-  schedule();
+  requestWork();
 }
 
+// ?ws=/path follows a daemon whose http.websocket.path is not the default /ws. Only a path
+// on this same host is taken, so a crafted link cannot send the token elsewhere.
 const params = new URLSearchParams(location.search);
-const wsUrl = new URL('/ws', location.href);
+const wsPath = params.get('ws') ?? '';
+const wsUrl = new URL(/^\/(?!\/)[\w./-]*$/.test(wsPath) ? wsPath : '/ws', location.href);
 wsUrl.protocol = location.protocol === 'https:' ? 'wss:' : 'ws:';
 if (params.has('token')) wsUrl.searchParams.set('token', params.get('token'));
 
