@@ -86,9 +86,8 @@ export async function runReplay(input: ReplayRunInput, io: ToolIo): Promise<Repl
     progress.clear();
     if (error instanceof RecordingFormatError) throw new ReplayFailure(error.message, EXIT_USAGE);
     const code = (error as NodeJS.ErrnoException).code;
-    if (code === 'ENOENT' || code === 'EACCES' || code === 'EISDIR') {
-      throw new ReplayFailure(`cannot read ${(error as NodeJS.ErrnoException).path ?? 'input'}: ${(error as Error).message}`, EXIT_USAGE);
-    }
+    const why = code === 'ENOENT' ? 'no such file' : code === 'EACCES' ? 'permission denied' : code === 'EISDIR' ? 'it is a directory' : null;
+    if (why !== null) throw new ReplayFailure(`cannot read --in ${(error as NodeJS.ErrnoException).path ?? ''}: ${why}`, EXIT_USAGE);
     throw new ReplayFailure(`replay failed: ${(error as Error).message}`, EXIT_FAILURE);
   }
   progress.clear();
