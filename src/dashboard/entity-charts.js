@@ -65,10 +65,10 @@ export class EntityCharts {
 
   /** Follows the cards' width; height changes (legends, new cards) need no redraw. */
   resize() {
-    for (const c of this.charts) {
-      const width = widthOf(c.body);
-      if (width !== c.plot.width) c.plot.setSize({ width, height: c.plot.height });
-    }
+    const widths = this.charts.map((c) => widthOf(c.body)); // all reads before any write: one layout
+    this.charts.forEach((c, i) => {
+      if (widths[i] !== c.plot.width) c.plot.setSize({ width: widths[i], height: c.plot.height });
+    });
   }
 
   rebuild() {
@@ -81,52 +81,70 @@ export class EntityCharts {
     const r = this.record;
     this.shape = r === null ? '' : shapeOf(r);
     if (r === null || r.stateNames === null) return;
-    const sensorNames = [...new Set([...r.sensors.keys(), ...r.readings.keys()])];
-    const colourOf = (s) => Math.max(0, sensorNames.indexOf(s));
-    const { byState, own } = placeReadings(r);
-    r.stateNames.forEach((name, i) => {
-      const sensors = byState.get(name) ?? [];
-      const note = `filtered ±2σ, smoothed${sensors.map((s) => `, ${s} readings`).join('')}`;
-      this.add(this.estimates, 'state', name, note, (holder, width) =>
-        stateChartOptions({ width, unit: name, sensors, sensorIndex: colourOf, holder, rejections: () => holder.marks }),
-      (since) => stateChartData(r, i, sensors, since));
-    });
-    for (const s of own) {
-      const valueCount = r.readings.get(s).columns.length - 2;
-      for (let v = 0; v < valueCount; v++) {
-        const label = valueCount === 1 ? s : `${s} [${v}]`;
-        this.add(this.estimates, 'readings', `${label} readings`, 'as received; no state reads it alone', (holder, width) =>
-          stateReadingsOptions(width, label, colourOf(s), holder),
-        (since) => readingsChartData(r, s, v, since));
-      }
-    }
-    for (const s of sensorNames) {
-      this.add(this.consistency, 'nis', `NIS · ${s}`, 'windowed mean within its band', (holder, width) =>
-        nisChartOptions({ width, colourIndex: colourOf(s), holder, rejections: () => holder.marks }),
-      (since) => nisChartData(r, s, since));
-    }
-    this.add(this.consistency, 'trace', 'trace(P)', 'sum of σ², mixed units', (holder, width) =>
-      traceChartOptions({ width, holder, rejections: () => holder.marks }),
-    (since) => traceChartData(r, since));
+    const cards = [];
+    planCards(r, this.estimates, this.consistency, (...args) => cards.push(card(...args)));
+    this.mount(cards);
     this.update();
   }
 
-  add(grid, kind, title, note, options, fill) {
-    const body = el('div', { className: 'chart-body' });
-    const card = el('figure', { className: 'chart-card', dataset: { kind, chart: title } },
-      el('figcaption', {}, el('span', { className: 'chart-title' }, title), el('span', { className: 'chart-note' }, note)),
-      body);
-    grid.append(card);
+  /** Creates the plots once every card is in the page, so the widths cost one layout. */
+  mount(cards) {
     if (typeof globalThis.uPlot !== 'function') {
-      body.textContent = 'Chart unavailable: the chart library did not load from /vendor/.';
-      body.className = 'chart-body chart-missing';
+      for (const { body } of cards) {
+        body.textContent = 'Chart unavailable: the chart library did not load from /vendor/.';
+        body.className = 'chart-body chart-missing';
+      }
       return;
     }
-    const holder = { marks: [[], []] };
-    const plot = new uPlot(options(holder, widthOf(body)), [[]], body);
-    this.charts.push({ plot, holder, body, card, fill, visible: true, stale: true });
-    this.visibility.observe(card);
+    const widths = cards.map(({ body }) => widthOf(body));
+    cards.forEach(({ card: node, body, options, fill }, i) => {
+      const holder = { marks: [[], []] };
+      const plot = new uPlot(options(holder, widths[i]), [[]], body);
+      this.charts.push({ plot, holder, body, card: node, fill, visible: true, stale: true });
+      this.visibility.observe(node);
+    });
   }
+}
+
+/** Calls `add` for each chart the record needs, in page order. */
+function planCards(r, estimates, consistency, add) {
+  const sensorNames = [...new Set([...r.sensors.keys(), ...r.readings.keys()])];
+  const colourOf = (s) => Math.max(0, sensorNames.indexOf(s));
+  const { byState, own } = placeReadings(r);
+  r.stateNames.forEach((name, i) => {
+    const sensors = byState.get(name) ?? [];
+    const note = `filtered ±2σ, smoothed${sensors.map((s) => `, ${s} readings`).join('')}`;
+    add(estimates, 'state', name, note, (holder, width) =>
+      stateChartOptions({ width, unit: name, sensors, sensorIndex: colourOf, holder, rejections: () => holder.marks }),
+    (since) => stateChartData(r, i, sensors, since));
+  });
+  for (const s of own) {
+    const valueCount = r.readings.get(s).columns.length - 2;
+    for (let v = 0; v < valueCount; v++) {
+      const label = valueCount === 1 ? s : `${s} [${v}]`;
+      add(estimates, 'readings', `${label} readings`, 'as received; no state reads it alone', (holder, width) =>
+        stateReadingsOptions(width, label, colourOf(s), holder),
+      (since) => readingsChartData(r, s, v, since));
+    }
+  }
+  for (const s of sensorNames) {
+    add(consistency, 'nis', `NIS · ${s}`, 'windowed mean within its band', (holder, width) =>
+      nisChartOptions({ width, colourIndex: colourOf(s), holder, rejections: () => holder.marks }),
+    (since) => nisChartData(r, s, since));
+  }
+  add(consistency, 'trace', 'trace(P)', 'sum of σ², mixed units', (holder, width) =>
+    traceChartOptions({ width, holder, rejections: () => holder.marks }),
+  (since) => traceChartData(r, since));
+}
+
+/** A chart card appended to `grid`, its plot still to be made from `options`. */
+function card(grid, kind, title, note, options, fill) {
+  const body = el('div', { className: 'chart-body' });
+  const node = el('figure', { className: 'chart-card', dataset: { kind, chart: title } },
+    el('figcaption', {}, el('span', { className: 'chart-title' }, title), el('span', { className: 'chart-note' }, note)),
+    body);
+  grid.append(node);
+  return { card: node, body, options, fill };
 }
 
 /** Readings without an estimate beside them: accepted and refused points only. */
