@@ -41,6 +41,7 @@ export class HealthLatch {
   private streak = 0;
   /** The state the streak has sustained: least severe seen while worse, most severe while better. */
   private sustained: HealthState = 'ok';
+  private sustainedReasons: HealthReason[] = [];
 
   /**
    * Feeds one raw evaluation; returns true when the reported state changed. A worse state is
@@ -59,12 +60,20 @@ export class HealthLatch {
       this.direction = d;
       this.streak = 0;
       this.sustained = raw;
+      this.sustainedReasons = reasons;
     }
     this.streak += 1;
-    if (d > 0 ? RANK[raw] < RANK[this.sustained] : RANK[raw] > RANK[this.sustained]) this.sustained = raw;
+    if (d > 0 ? RANK[raw] < RANK[this.sustained] : RANK[raw] > RANK[this.sustained]) {
+      this.sustained = raw;
+      this.sustainedReasons = reasons;
+    } else if (raw === this.sustained) {
+      this.sustainedReasons = reasons;
+    }
     if (this.streak < (d > 0 ? t.enterAfter : t.leaveAfter)) return false;
     this.state = this.sustained;
-    this.reasons = this.state === 'ok' ? [] : reasons;
+    // The reasons of the newest evaluation at the state entered: stepping down from failed to
+    // degraded through some ok evaluations must still say why it is degraded.
+    this.reasons = this.state === 'ok' ? [] : this.sustainedReasons;
     this.direction = 0;
     this.streak = 0;
     return true;

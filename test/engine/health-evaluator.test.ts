@@ -46,6 +46,15 @@ describe('health latch', () => {
     expect(feedLatch(latch, ['ok', 'ok', 'ok', 'ok', 'ok'])).toEqual(['failed', 'failed', 'failed', 'failed', 'ok']);
   });
 
+  it('keeps the reasons of the state it steps down to', () => {
+    const latch = new HealthLatch();
+    for (let k = 0; k < 3; k++) latch.feed('failed', ['stale'], thresholds());
+    latch.feed('degraded', ['gate-rate'], thresholds());
+    for (let k = 0; k < 4; k++) latch.feed('ok', [], thresholds());
+    expect(latch.state).toBe('degraded');
+    expect(latch.reasons).toEqual(['gate-rate']);
+  });
+
   it('enters the least severe state the streak sustained', () => {
     expect(feedLatch(new HealthLatch(), ['failed', 'degraded', 'failed'])).toEqual(['ok', 'ok', 'degraded']);
   });
