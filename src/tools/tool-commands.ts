@@ -6,7 +6,9 @@ import type { ToolCommand, ToolIo } from './tool-io.js';
 
 /** Command name → loader of its implementation. */
 export const TOOL_COMMANDS: Readonly<Record<string, () => Promise<ToolCommand>>> = {
+  record: async () => (await import('./record-command.js')).runRecordCommand,
   replay: async () => (await import('./replay-command.js')).runReplayCommand,
+  report: async () => (await import('./report-command.js')).runReportCommand,
   tune: async () => (await import('./tune-command.js')).runTuneCommand,
 };
 
