@@ -117,7 +117,9 @@ export class Engine implements EngineView {
       }
       this.events.emit('track:created', { estimator: rt.name, entity });
     }
-    record.lastSeenMs = arrivalMs;
+    // Never moved back: after the host clock steps back and is corrected, a track that kept
+    // reporting through the step must not look idle for the length of the step and be evicted.
+    if (arrivalMs > record.lastSeenMs) record.lastSeenMs = arrivalMs;
     record.lastHeardMs[sensor.index] = arrivalMs;
     let R: Float64Array | null = null;
     if (slot.hasCovariance) {
