@@ -9,6 +9,7 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
+import { request } from 'node:http';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -201,6 +202,25 @@ export function within<T>(promise: Promise<T>, ms: number, what: () => string): 
   return Promise.race([promise, timeout]).finally(() => clearTimeout(timer));
 }
 
+/**
+ * One GET on a fresh connection (no keep-alive pool, so a request never lands on a socket the
+ * server is closing as idle), bounded by HTTP_TIMEOUT_MS.
+ */
+function httpGet(url: URL): Promise<{ status: number; body: string }> {
+  return new Promise((resolve, reject) => {
+    const req = request(url, { agent: false, timeout: HTTP_TIMEOUT_MS }, (res) => {
+      let body = '';
+      res.setEncoding('utf8');
+      res.on('data', (chunk: string) => (body += chunk));
+      res.on('end', () => resolve({ status: res.statusCode ?? 0, body }));
+      res.on('error', reject);
+    });
+    req.on('timeout', () => req.destroy(new Error(`GET ${url.pathname} took longer than ${HTTP_TIMEOUT_MS} ms`)));
+    req.on('error', reject);
+    req.end();
+  });
+}
+
 async function spawnDaemon(launch: Launch, waitFor: 'ready' | 'alive'): Promise<DaemonProcess> {
   const loaded = loadConfig(launch.configPath, {});
   if (!loaded.ok) throw new Error(`the generated config is invalid:\n${formatConfigIssues(loaded.issues)}`);
@@ -270,10 +290,7 @@ async function spawnDaemon(launch: Launch, waitFor: 'ready' | 'alive'): Promise<
   const brokerUrl = launch.brokerUrl ?? embeddedMatch?.[1];
   if (brokerUrl === undefined) throw new Error(`no broker URL on stdout\n${describeState()}`);
 
-  const get = async (path: string): Promise<{ status: number; body: string }> => {
-    const res = await fetch(new URL(path.replace(/^\//, ''), httpUrl), { signal: AbortSignal.timeout(HTTP_TIMEOUT_MS) });
-    return { status: res.status, body: await res.text() };
-  };
+  const get = (path: string): Promise<{ status: number; body: string }> => httpGet(new URL(path.replace(/^\//, ''), httpUrl));
   const waitForStatus = async (path: string, status: number, timeoutMs = DAEMON_START_TIMEOUT_MS): Promise<void> => {
     const deadline = Date.now() + timeoutMs;
     let last = 'no answer';
