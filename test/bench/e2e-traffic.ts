@@ -20,37 +20,59 @@ export function toOutgoing(fixes: readonly YardFix[]): OutgoingFix[] {
   return fixes.map((f) => ({ topic: f.topic, payload: Buffer.from(f.payload) }));
 }
 
+/** Bounds of a flow-controlled publish. */
+export interface FlowControl {
+  /** Stop publishing at this performance.now() time (ms); default never. */
+  readonly deadlineMs?: number;
+  /** Publish callbacks pending at most (mqtt.js calls them once the packet is handed to the socket). */
+  readonly maxOutstanding?: number;
+  /** Messages published but not yet arrived at `arrivals`, at most `size` (closed loop). */
+  readonly window?: { readonly arrivals: ArrivalCounter; readonly size: number };
+}
+
 /**
- * Publishes the fixes in order at QoS 0, keeping at most `maxOutstanding` publish callbacks
- * pending (mqtt.js calls them once the packet is handed to the socket, later when the socket is
- * full), and stops early at `deadlineMs` (performance.now() time). Resolves with the count sent.
+ * Publishes the fixes in order at QoS 0 within the bounds of `control`. Resolves with the count
+ * sent: fewer than all when the deadline came first.
  */
-export function publishFlowControlled(
-  client: MqttClient, fixes: readonly OutgoingFix[], deadlineMs = Infinity, maxOutstanding = MAX_OUTSTANDING,
-): Promise<number> {
+export function publishFlowControlled(client: MqttClient, fixes: readonly OutgoingFix[], control: FlowControl = {}): Promise<number> {
+  const deadlineMs = control.deadlineMs ?? Infinity;
+  const maxOutstanding = control.maxOutstanding ?? MAX_OUTSTANDING;
+  const window = control.window;
   return new Promise((resolve, reject) => {
     let next = 0;
     let end = fixes.length;
     let outstanding = 0;
     let pumping = false;
+    const open = (): boolean => outstanding < maxOutstanding && (window === undefined || next - window.arrivals.count < window.size);
     const pump = (): void => {
+      if (pumping) return;
       pumping = true;
-      while (outstanding < maxOutstanding && next < end) {
+      if (performance.now() > deadlineMs) end = Math.min(end, next);
+      while (next < end && open()) {
+        const fix = fixes[next++]!;
+        outstanding += 1;
+        client.publish(fix.topic, fix.payload, { qos: 0 }, onSent);
         if ((next & 255) === 0 && performance.now() > deadlineMs) end = next;
-        else {
-          const fix = fixes[next++]!;
-          outstanding += 1;
-          client.publish(fix.topic, fix.payload, { qos: 0 }, onSent);
-        }
       }
       pumping = false;
-      if (next === end && outstanding === 0) resolve(end);
+      if (next === end && outstanding === 0) {
+        clearInterval(watchdog);
+        window?.arrivals.onArrival(null);
+        resolve(end);
+      }
     };
     const onSent = (err?: Error): void => {
-      if (err !== undefined) return reject(err);
+      if (err !== undefined) {
+        clearInterval(watchdog);
+        reject(err);
+        return;
+      }
       outstanding -= 1;
-      if (!pumping) pump();
+      pump();
     };
+    // Re-checks the deadline while the window is shut and nothing arrives.
+    const watchdog = setInterval(pump, 50);
+    window?.arrivals.onArrival(pump);
     pump();
   });
 }
@@ -65,6 +87,8 @@ export interface ArrivalCounter {
    * `deadlineMs` (performance.now() time).
    */
   waitFor(total: number, idleMs: number, deadlineMs?: number): Promise<void>;
+  /** Calls `listener` after every arrival (one listener at a time; null removes it). */
+  onArrival(listener: (() => void) | null): void;
   /** Detaches from the client. */
   close(): void;
 }
@@ -73,10 +97,12 @@ export interface ArrivalCounter {
 export function countArrivals(client: MqttClient, prefix: string): ArrivalCounter {
   let count = 0;
   let lastMs = performance.now();
+  let listener: (() => void) | null = null;
   const onMessage = (topic: string): void => {
     if (!topic.startsWith(prefix)) return;
     count += 1;
     lastMs = performance.now();
+    listener?.();
   };
   client.on('message', onMessage);
   return {
@@ -93,6 +119,7 @@ export function countArrivals(client: MqttClient, prefix: string): ArrivalCounte
         }, 5);
       });
     },
+    onArrival: (l) => void (listener = l),
     close: () => void client.off('message', onMessage),
   };
 }
@@ -109,8 +136,7 @@ export interface LatencyRun {
  * Publishes live fixes (t = the wall clock) at `ratePerS` for `warmupS + durationS`, cycling
  * through the fleet, and records publish → estimate latency for those sent after the warm-up.
  * Each estimate is matched to its fix by (vehicle, t): the estimate of a filtered update carries
- * the measurement's time. The publisher catches up in bursts when a timer fires late, as a real
- * gateway would, but never holds more than MAX_OUTSTANDING callbacks.
+ * the measurement's time.
  */
 export async function measureLatency(
   pub: MqttClient, sub: MqttClient, fleet: YardFleet, estimatePrefix: string,
@@ -118,7 +144,7 @@ export async function measureLatency(
 ): Promise<LatencyRun> {
   const sentAt = new Map<string, number>();
   const samples: number[] = [];
-  let measureFromMs = Infinity;
+  const measureFromMs = performance.now() + warmupS * 1000;
   const onEstimate = (topic: string, payload: Buffer): void => {
     const receivedMs = performance.now();
     if (!topic.startsWith(estimatePrefix)) return;
@@ -131,42 +157,50 @@ export async function measureLatency(
   };
   sub.on('message', onEstimate);
 
-  const total = Math.round(ratePerS * (warmupS + durationS));
   const lastT = new Float64Array(fleet.vehicles.length);
-  const startMs = performance.now();
-  measureFromMs = startMs + warmupS * 1000;
-  let sent = 0;
   let measured = 0;
+  const paced = await publishPaced(pub, ratePerS, Math.round(ratePerS * (warmupS + durationS)), (i) => {
+    const index = i % fleet.vehicles.length;
+    // Milliseconds suffice: a vehicle's fixes are fleet size ÷ ratePerS apart; the guard keeps
+    // each vehicle's times increasing should a burst ever crowd them.
+    const tText = Math.max(Date.now() / 1000, lastT[index]! + 0.001).toFixed(3);
+    lastT[index] = Number(tText);
+    const fix = fleet.fix(index, tText);
+    const nowMs = performance.now();
+    sentAt.set(`${fleet.vehicles[index]}|${Number(tText)}`, nowMs);
+    if (nowMs >= measureFromMs) measured += 1;
+    return fix;
+  });
+  const deadline = performance.now() + 3000;
+  while (samples.length < measured && performance.now() < deadline) await new Promise((r) => setTimeout(r, 10));
+  sub.off('message', onEstimate);
+  return { samplesMs: Float64Array.from(samples), published: measured, lost: measured - samples.length, achievedRatePerS: paced };
+}
+
+/**
+ * Publishes `total` messages made by `next(i)` at `ratePerS`, catching up in bursts when a timer
+ * fires late (as a real gateway would), never with more than MAX_OUTSTANDING callbacks pending.
+ * Resolves with the rate achieved.
+ */
+function publishPaced(pub: MqttClient, ratePerS: number, total: number, next: (i: number) => YardFix): Promise<number> {
+  const startMs = performance.now();
+  let sent = 0;
   let outstanding = 0;
   const onSent = (): void => void (outstanding -= 1);
-  await new Promise<void>((resolve) => {
+  return new Promise((resolve) => {
     const tick = (): void => {
       const due = Math.min(total, Math.floor(((performance.now() - startMs) * ratePerS) / 1000));
       while (sent < due && outstanding < MAX_OUTSTANDING) {
-        const index = sent % fleet.vehicles.length;
-        // Milliseconds suffice: a vehicle's fixes are 1000 / ratePerS × fleet size apart; the
-        // guard keeps each vehicle's times increasing should a burst ever crowd them.
-        const tS = Math.max(Date.now() / 1000, lastT[index]! + 0.001);
-        const tText = tS.toFixed(3);
-        lastT[index] = Number(tText);
-        const fix = fleet.fix(index, tText);
-        const now = performance.now();
-        sentAt.set(`${fleet.vehicles[index]}|${Number(tText)}`, now);
-        if (now >= measureFromMs) measured += 1;
+        const fix = next(sent);
         outstanding += 1;
         pub.publish(fix.topic, fix.payload, { qos: 0 }, onSent);
         sent += 1;
       }
       if (sent < total) setTimeout(tick, 1);
-      else resolve();
+      else resolve(sent / ((performance.now() - startMs) / 1000));
     };
     tick();
   });
-  const elapsedS = (performance.now() - startMs) / 1000;
-  const deadline = performance.now() + 3000;
-  while (samples.length < measured && performance.now() < deadline) await new Promise((r) => setTimeout(r, 10));
-  sub.off('message', onEstimate);
-  return { samplesMs: Float64Array.from(samples), published: measured, lost: measured - samples.length, achievedRatePerS: sent / elapsedS };
 }
 
 /** The q-quantile of sorted samples (nearest rank). */
