@@ -1,10 +1,10 @@
 /**
  * Output text assembled straight into large byte blocks: ASCII strings are copied a character
  * at a time (cheaper than a native call for short fragments), other text is UTF-8 encoded,
- * and numbers are written as digits by writeCompactNumber, so the replay's output path makes
- * almost no garbage. Full blocks are handed out with takeFull.
+ * and bulk numbers and times are written as digits (writeCompactNumber, writeTimeSeconds), so
+ * the replay's output path makes little garbage. Full blocks are handed out with takeFull.
  */
-import { writeCompactNumber } from './compact-number.js';
+import { writeCompactNumber, writeTimeSeconds } from './compact-number.js';
 
 const BLOCK_BYTES = 1 << 20;
 /** Room writeCompactNumber may need. */
@@ -43,6 +43,12 @@ export class ByteBlockWriter {
   number(v: number): void {
     this.ensure(NUMBER_BYTES);
     this.used = writeCompactNumber(this.block, this.used, v);
+  }
+
+  /** Appends a time in seconds with the text String(tS) gives (see writeTimeSeconds). */
+  time(tS: number): void {
+    this.ensure(NUMBER_BYTES);
+    this.used = writeTimeSeconds(this.block, this.used, tS);
   }
 
   /** Appends src[start, start + length) (ASCII or UTF-8 bytes). */

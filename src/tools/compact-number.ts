@@ -118,3 +118,46 @@ export function compactNumber(v: number): string {
   }
   return neg ? `-${s}` : s;
 }
+
+/**
+ * Writes a time in seconds exactly as String(tS) would, without making a string, for times on
+ * a whole millisecond below 10^12 s (every recorded and simulated time stamp): then the digits
+ * of the millisecond count with the point three places in, trailing zeros dropped, are the
+ * shortest text that reads back as tS (the double spacing there is far below 1 ms). Other
+ * values take String(). out must have 32 bytes free at pos; returns the position after it.
+ */
+export function writeTimeSeconds(out: Uint8Array, pos: number, tS: number): number {
+  const ms = Math.round(tS * 1000);
+  if (!(tS >= 0 && tS < 1e12) || ms / 1000 !== tS) {
+    const s = Number.isFinite(tS) ? String(tS) : 'null';
+    for (let i = 0; i < s.length; i++) out[pos++] = s.charCodeAt(i);
+    return pos;
+  }
+  let whole = Math.floor(ms / 1000);
+  let frac = ms - whole * 1000;
+  const d = timeScratch;
+  let n = 0;
+  do {
+    const next = Math.floor(whole / 10);
+    d[n++] = ZERO + (whole - 10 * next);
+    whole = next;
+  } while (whole > 0);
+  while (n > 0) out[pos++] = d[--n]!;
+  if (frac > 0) {
+    out[pos++] = 0x2e;
+    let digits = 3;
+    while (frac % 10 === 0) {
+      frac /= 10;
+      digits -= 1;
+    }
+    for (let i = digits - 1; i >= 0; i--) {
+      const next = Math.floor(frac / 10);
+      d[i] = ZERO + (frac - 10 * next);
+      frac = next;
+    }
+    for (let i = 0; i < digits; i++) out[pos++] = d[i]!;
+  }
+  return pos;
+}
+
+const timeScratch = new Uint8Array(24);

@@ -122,7 +122,7 @@ export class ReplaySession {
     est.refilterRefusals += run.refused;
     const out = this.options.output;
     for (const step of run.steps) {
-      if (out !== null) est.formatter.writeFromState(out, step.tS, entity.entityJson, 'smoothed', step.x, step.P, null);
+      if (out !== null) est.formatter.write(out, step.tS, entity.entityJson, 'smoothed', step.x, step.P, null);
       if (entity.series !== null) pushEstimate(entity.series.smoothedT, entity.series.smoothedX, entity.series.smoothedSigma, step.tS, step.x, step.P);
     }
   }
@@ -189,7 +189,7 @@ export class ReplaySession {
     }
     est.estimates += 1;
     const out = this.options.output;
-    if (out !== null) est.formatter.writeFromPayload(out, e.payload, entity.entityJson, KIND_OF[e.kind] ?? e.kind, e.tS, x, P, entity.pendingNis);
+    if (out !== null) est.formatter.write(out, e.tS, entity.entityJson, KIND_OF[e.kind] ?? e.kind, x, P, entity.pendingNis);
     if (e.kind === 'filtered' && entity.series !== null) {
       pushEstimate(entity.series.filteredT, entity.series.filteredX, entity.series.filteredSigma, e.tS, x, P);
     }

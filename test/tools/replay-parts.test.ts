@@ -1,11 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { ByteBlockWriter } from '../../src/tools/byte-block-writer.js';
-import { compactNumber, writeCompactNumber } from '../../src/tools/compact-number.js';
-import { EstimateLineFormatter, PendingNis, spliceTimeState } from '../../src/tools/estimate-line.js';
+import { compactNumber, writeCompactNumber, writeTimeSeconds } from '../../src/tools/compact-number.js';
+import { EstimateLineFormatter, PendingNis } from '../../src/tools/estimate-line.js';
 import { RecordingTicker } from '../../src/tools/recording-ticker.js';
 import { decimateMinMax } from '../../src/tools/series-decimation.js';
 import { compileTopicFilter, topicMatches } from '../../src/tools/topic-filter.js';
-import { EstimateSerializer } from '../../src/engine/estimate-message.js';
 import { createPrng } from '../../src/simulation/prng.js';
 
 function text(writer: ByteBlockWriter): string {
@@ -40,27 +39,32 @@ describe('estimate lines', () => {
   const x = Float64Array.from([12.5, -0.25]);
   const P = Float64Array.from([4, 0.5, 0.5, 1 / 3]);
 
-  it('reuse the time and state text of the engine payload and add covariance and NIS', () => {
-    const payload = new EstimateSerializer('yard', ['east', 'v_east'], false)
-      .serialize('tug-"7"', 'filtered', 1767225600.1, x, P, 0, false, { state: 'ok', reasons: [] });
+  it('hold time, estimator, entity, kind, state, covariance and the pending NIS entries', () => {
     const nis = new PendingNis();
     nis.add('{"sensor":"wheel","t":', 1767225600.1, 0.5);
     nis.add('{"sensor":"gnss","t":', 1767225600, Number.NaN);
     const out = new ByteBlockWriter();
-    formatter.writeFromPayload(out, payload, JSON.stringify('tug-"7"'), 'filtered', 1767225600.1, x, P, nis);
-    expect(JSON.parse(text(out))).toEqual({
+    formatter.write(out, 1767225600.1, JSON.stringify('tug-"7"'), 'filtered', x, P, nis);
+    formatter.write(out, 1767225600.2, '"tug-01"', 'smoothed', x, P, null);
+    const [first, second] = text(out).split('\n');
+    expect(JSON.parse(first!)).toEqual({
       t: 1767225600.1, estimator: 'yard', entity: 'tug-"7"', kind: 'filtered',
       state: { east: 12.5, v_east: -0.25 },
       covariance: [[4, 0.5], [0.5, 0.333333333]],
       nis: [{ sensor: 'wheel', t: 1767225600.1, nis: 0.5 }, { sensor: 'gnss', t: 1767225600, nis: null }],
     });
+    expect(JSON.parse(second!)).toMatchObject({ t: 1767225600.2, kind: 'smoothed', nis: [] });
   });
 
-  it('fall back to the state itself when a payload has another shape', () => {
-    expect(spliceTimeState('{"v":2,"when":1}')).toBeNull();
-    const out = new ByteBlockWriter();
-    formatter.writeFromPayload(out, '{"v":2}', '"tug-01"', 'predicted', 5, x, P, new PendingNis());
-    expect(JSON.parse(text(out))).toMatchObject({ t: 5, kind: 'predicted', state: { east: 12.5, v_east: -0.25 }, nis: [] });
+  it('write times with the text String gives, on and off whole milliseconds', () => {
+    const prng = createPrng('time-text');
+    const times = [0, 1767225600, 1767225600.1, 1767225600.05, 1767225600.999, 1e12 + 0.5, -3.5, 12.3456789, Number.NaN];
+    for (let i = 0; i < 5000; i++) times.push(Math.round(prng.nextUniform(1.7e9, 1.8e9) * 1000) / 1000, prng.nextUniform(0, 1e5));
+    const buf = new Uint8Array(64);
+    for (const t of times) {
+      const expected = Number.isFinite(t) ? String(t) : 'null';
+      expect(Buffer.from(buf.subarray(0, writeTimeSeconds(buf, 0, t))).toString('latin1')).toBe(expected);
+    }
   });
 });
 
