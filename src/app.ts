@@ -149,6 +149,7 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
         brokerConnected: () => connection?.connected === true,
         wsClients: () => s.stats().clients,
         wsDroppedTotal: () => s.stats().dropped,
+        mqttDroppedTotal: () => connection?.droppedCount ?? 0,
       });
       const { url } = await http.start();
       stream.start();

@@ -26,6 +26,7 @@ export const DAEMON_METRIC_NAMES = [
   'statecast_event_loop_lag_seconds',
   'statecast_ws_clients',
   'statecast_ws_dropped_total',
+  'statecast_mqtt_dropped_total',
 ] as const;
 
 /** One of DAEMON_METRIC_NAMES. */

@@ -44,6 +44,8 @@ export interface DaemonMetricsOptions {
   readonly wsClients?: () => number;
   /** Messages dropped for slow WebSocket clients since start; `statecast_ws_dropped_total` only when given. */
   readonly wsDroppedTotal?: () => number;
+  /** Outgoing MQTT messages dropped by the bounded publish queue since start; `statecast_mqtt_dropped_total` only when given. */
+  readonly mqttDroppedTotal?: () => number;
   /** Also register prom-client's process metrics with prefix `statecast_` (default true). */
   readonly defaultMetrics?: boolean;
   /** Sampling period of the event-loop delay monitor in ms (default 10). */
@@ -159,7 +161,18 @@ export function createDaemonMetrics(options: DaemonMetricsOptions): DaemonMetric
 
 function registerConnectionGauges(options: DaemonMetricsOptions): void {
   const registers = [options.registry];
-  const { brokerConnected, wsClients, wsDroppedTotal } = options;
+  const { brokerConnected, wsClients, wsDroppedTotal, mqttDroppedTotal } = options;
+  if (mqttDroppedTotal !== undefined) {
+    new Counter({
+      name: 'statecast_mqtt_dropped_total',
+      help: 'Outgoing MQTT messages (estimates, health) dropped because the bounded publish queue was full while the broker was slow or away.',
+      registers,
+      collect() {
+        this.reset();
+        this.inc(Math.max(0, mqttDroppedTotal()));
+      },
+    });
+  }
   new Gauge({
     name: 'statecast_broker_connected',
     help: '1 while the MQTT client is connected to the broker, else 0.',

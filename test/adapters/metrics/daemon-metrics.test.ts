@@ -13,14 +13,14 @@ describe('createDaemonMetrics', () => {
     await expect(scrape()).resolves.toBeInstanceOf(Map);
   });
 
-  it('registers every name of DAEMON_METRIC_NAMES when the WebSocket callbacks are given', async () => {
-    const { registry } = setup({ wsClients: () => 3, wsDroppedTotal: () => 7 });
+  it('registers every name of DAEMON_METRIC_NAMES when the WebSocket and MQTT drop callbacks are given', async () => {
+    const { registry } = setup({ wsClients: () => 3, wsDroppedTotal: () => 7, mqttDroppedTotal: () => 2 });
     const names = registry.getMetricsAsArray().map((m) => m.name);
     expect(names).toEqual(expect.arrayContaining([...DAEMON_METRIC_NAMES]));
   });
 
   it('registers no name outside DAEMON_METRIC_NAMES except the prefixed process metrics', () => {
-    const { registry } = setup({ wsClients: () => 3, wsDroppedTotal: () => 7 });
+    const { registry } = setup({ wsClients: () => 3, wsDroppedTotal: () => 7, mqttDroppedTotal: () => 2 });
     const own = registry.getMetricsAsArray().map((m) => m.name)
       .filter((n) => !/^statecast_(process_|nodejs_)/.test(n));
     expect(own.sort()).toEqual([...DAEMON_METRIC_NAMES].sort());
