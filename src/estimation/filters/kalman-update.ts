@@ -1,8 +1,9 @@
 import type { MeasurementModel } from '../measurements/measurement-model.js';
-import { choleskyInto, choleskySolveInPlace, isPositiveSemidefinite, mahalanobisSquared } from '../linalg/cholesky.js';
+import { isPositiveSemidefinite } from '../linalg/cholesky.js';
 import { denseTimesSparseTransposedInto } from '../linalg/sparse-pattern.js';
 import { allFinite } from '../linalg/symmetric.js';
 import type { FilterWorkspace } from './filter-workspace.js';
+import { addNoiseAndGate, gainAndStateInto } from './innovation-gate.js';
 
 /** What an update did: applied, refused by the gate, or refused because the numbers broke. */
 export type UpdateVerdict = 'applied' | 'gate' | 'numerics';
@@ -36,39 +37,27 @@ export function kalmanUpdateInPlace(
   model.innovationInto(y, ws.yhat, ws.nu);
   const pat = ws.hPattern[m]!;
   pat.scan(H);
-  // U = P Hᵀ (n×m); S = H U + R.
+  // U = P Hᵀ (n×m); S = H U (upper triangle, mirrored), then + R in addNoiseAndGate.
   denseTimesSparseTransposedInto(P, n, H, pat, ws.U);
   const S = ws.S;
+  const U = ws.U;
+  const rowStart = pat.rowStart;
+  const cols = pat.cols;
   for (let r = 0; r < m; r++) {
+    const end = rowStart[r + 1]!;
     for (let c = r; c < m; c++) {
       let s = 0;
-      for (let t = pat.rowStart[r]!; t < pat.rowStart[r + 1]!; t++) {
-        const k = pat.cols[t]!;
-        s += H[r * n + k]! * ws.U[k * m + c]!;
+      for (let t = rowStart[r]!; t < end; t++) {
+        const k = cols[t]!;
+        s += H[r * n + k]! * U[k * m + c]!;
       }
-      // Average R's two triangles so a slightly asymmetric reported covariance cannot skew S.
-      const v = s + 0.5 * (R[r * m + c]! + R[c * m + r]!);
-      S[r * m + c] = v;
-      S[c * m + r] = v;
+      S[r * m + c] = s;
+      S[c * m + r] = s;
     }
-    ws.sDiagonal[r] = S[r * m + r]!;
   }
-  if (!allFinite(ws.nu, m) || !choleskyInto(S, m, ws.L)) return 'numerics';
-  const d2 = mahalanobisSquared(ws.L, m, ws.nu, ws.mScratch);
-  ws.nis = d2;
-  if (!Number.isFinite(d2)) return 'numerics';
-  if (d2 > gateThreshold) return 'gate';
-  // Kᵀ = S⁻¹ Uᵀ by two triangular solves.
-  const Kt = ws.Kt;
-  const K = ws.K;
-  for (let r = 0; r < m; r++) for (let i = 0; i < n; i++) Kt[r * n + i] = ws.U[i * m + r]!;
-  choleskySolveInPlace(ws.L, m, Kt, n);
-  for (let i = 0; i < n; i++) for (let r = 0; r < m; r++) K[i * m + r] = Kt[r * n + i]!;
-  for (let i = 0; i < n; i++) {
-    let s = x[i]!;
-    for (let r = 0; r < m; r++) s += K[i * m + r]! * ws.nu[r]!;
-    ws.xCandidate[i] = s;
-  }
+  const refused = addNoiseAndGate(R, m, gateThreshold, ws);
+  if (refused !== null) return refused;
+  gainAndStateInto(x, m, ws);
   josephInto(P, H, pat.rowStart, pat.cols, R, m, ws);
   if (!allFinite(ws.xCandidate, n) || !isPositiveSemidefinite(ws.nn2, n, ws.nn3)) return 'numerics';
   x.set(ws.xCandidate);

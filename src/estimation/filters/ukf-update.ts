@@ -1,7 +1,8 @@
 import type { MeasurementModel } from '../measurements/measurement-model.js';
-import { choleskyInto, choleskySolveInPlace, isPositiveSemidefinite, mahalanobisSquared } from '../linalg/cholesky.js';
+import { isPositiveSemidefinite } from '../linalg/cholesky.js';
 import { allFinite, symmetrizeInPlace } from '../linalg/symmetric.js';
 import type { FilterWorkspace } from './filter-workspace.js';
+import { addNoiseAndGate, gainAndStateInto } from './innovation-gate.js';
 import type { UpdateVerdict } from './kalman-update.js';
 import {
   deviationCovarianceInto,
@@ -50,32 +51,11 @@ export function unscentedUpdateInPlace(
   model.innovationInto(y, ws.yhat, ws.nu);
   const S = ws.S;
   deviationCovarianceInto(m, uws, S);
-  for (let r = 0; r < m; r++) {
-    for (let c = r; c < m; c++) {
-      // Average R's two triangles so a slightly asymmetric reported covariance cannot skew S.
-      const v = S[r * m + c]! + 0.5 * (R[r * m + c]! + R[c * m + r]!);
-      S[r * m + c] = v;
-      S[c * m + r] = v;
-    }
-    ws.sDiagonal[r] = S[r * m + r]!;
-  }
-  if (!allFinite(ws.nu, m) || !allFinite(S, m * m) || !choleskyInto(S, m, ws.L)) return 'numerics';
-  const d2 = mahalanobisSquared(ws.L, m, ws.nu, ws.mScratch);
-  ws.nis = d2;
-  if (!Number.isFinite(d2)) return 'numerics';
-  if (d2 > gateThreshold) return 'gate';
+  const refused = addNoiseAndGate(R, m, gateThreshold, ws);
+  if (refused !== null) return refused;
   crossCovarianceInto(m, uws, ws.U);
-  // Kᵀ = S⁻¹ Pxyᵀ by two triangular solves; no inverse of S is formed.
-  const Kt = ws.Kt;
+  gainAndStateInto(x, m, ws);
   const K = ws.K;
-  for (let r = 0; r < m; r++) for (let i = 0; i < n; i++) Kt[r * n + i] = ws.U[i * m + r]!;
-  choleskySolveInPlace(ws.L, m, Kt, n);
-  for (let i = 0; i < n; i++) for (let r = 0; r < m; r++) K[i * m + r] = Kt[r * n + i]!;
-  for (let i = 0; i < n; i++) {
-    let s = x[i]!;
-    for (let r = 0; r < m; r++) s += K[i * m + r]! * ws.nu[r]!;
-    ws.xCandidate[i] = s;
-  }
   // K S into ws.KR, then P − (K S) Kᵀ into ws.nn2.
   const KS = ws.KR;
   for (let i = 0; i < n; i++) {
