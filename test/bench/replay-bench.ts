@@ -2,7 +2,9 @@
  * Replay throughput: a 1,000,000-message vehicle-yard recording (measurements only, made once
  * by the simulator into a temp file), replayed end to end by `statecast replay` — reading and
  * parsing the file, the engine, and formatting every estimate line — with output to /dev/null.
- * Prints figures; never asserts on time.
+ * Beside it, the same file through the bare Engine (read and handleMessage, nothing listening)
+ * as the floor the tool cannot beat, and both per CPU second, the figure that holds still on a
+ * shared machine. Prints figures; never asserts on time.
  */
 import { mkdtemp, rm, stat, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -12,6 +14,9 @@ import { createScenario } from '../../src/simulation/scenario.js';
 import { generateRecording } from '../../src/simulation/simulation-runner.js';
 import { recordingHeaderLine, recordingTextLine } from '../../src/tools/recording-format.js';
 import { runReplayCommand } from '../../src/tools/replay-command.js';
+import { readRecording } from '../../src/tools/recording-reader.js';
+import { Engine } from '../../src/engine/engine.js';
+import { parseConfig } from '../../src/config/load-config.js';
 import type { ToolIo } from '../../src/tools/tool-io.js';
 
 const MESSAGES = 1_000_000;
@@ -36,7 +41,19 @@ async function writeYardRecording(path: string): Promise<number> {
   return messages.length;
 }
 
-/** replay.msgs_per_s (end to end), replay.generate_s (simulator + file), replay.file_mb. */
+/** Wall and CPU seconds of fn. */
+async function timed(fn: () => Promise<void>): Promise<{ wallS: number; cpuS: number }> {
+  const c0 = process.cpuUsage();
+  const t0 = process.hrtime.bigint();
+  await fn();
+  const c = process.cpuUsage(c0);
+  return { wallS: Number(process.hrtime.bigint() - t0) / 1e9, cpuS: (c.user + c.system) / 1e6 };
+}
+
+/**
+ * replay.msgs_per_s (end to end) and per CPU second, the bare engine's figures on the same
+ * file, replay.ratio_to_engine, replay.generate_s (simulator + file) and replay.file_mb.
+ */
 export async function benchReplay(): Promise<Record<string, number>> {
   const dir = await mkdtemp(join(tmpdir(), 'statecast-replay-bench-'));
   try {
@@ -54,12 +71,22 @@ export async function benchReplay(): Promise<Record<string, number>> {
       signal: new AbortController().signal,
       env: {},
     };
-    const r0 = process.hrtime.bigint();
-    const code = await runReplayCommand(['--config', config, '--in', recording, '--out', '/dev/null'], io);
-    const replayS = Number(process.hrtime.bigint() - r0) / 1e9;
-    if (code !== 0) throw new Error(`replay exited ${code}`);
+    const replay = await timed(async () => {
+      const code = await runReplayCommand(['--config', config, '--in', recording, '--out', '/dev/null'], io);
+      if (code !== 0) throw new Error(`replay exited ${code}`);
+    });
+    const parsed = parseConfig({ estimators: [yardEstimatorInput()] }, {});
+    if (!parsed.ok) throw new Error('the yard estimator does not validate');
+    const engine = new Engine(parsed.config.estimators, { publish: () => undefined });
+    const bare = await timed(async () => {
+      await readRecording(recording, (t, topic, payload) => engine.handleMessage(topic, payload, t));
+    });
     return {
-      'replay.msgs_per_s': count / replayS,
+      'replay.msgs_per_s': count / replay.wallS,
+      'replay.msgs_per_cpu_s': count / replay.cpuS,
+      'replay.engine_only_msgs_per_s': count / bare.wallS,
+      'replay.engine_only_msgs_per_cpu_s': count / bare.cpuS,
+      'replay.ratio_to_engine': bare.cpuS / replay.cpuS,
       'replay.generate_s': generateS,
       'replay.file_mb': (await stat(recording)).size / 1e6,
     };
