@@ -6,6 +6,7 @@
 import { writeFileSync } from 'node:fs';
 import { benchCore } from './core-bench.js';
 import { benchDecode } from './decode-bench.js';
+import { benchReplay } from './replay-bench.js';
 import { benchE2e } from './e2e-bench.js';
 
 type Section = () => Promise<Record<string, number>> | Record<string, number>;
@@ -14,6 +15,7 @@ const SECTIONS: Record<string, Section> = {
   core: benchCore,
   decode: benchDecode,
   e2e: benchE2e,
+  replay: benchReplay,
 };
 
 /** Targets from the issues, shown beside each figure (`<=` or `>=`). */
@@ -21,6 +23,7 @@ const TARGETS: Record<string, string> = {
   'core.cv2d_ns': '<= 800',
   'core.speedup_vs_naive': '>= 8',
   'core.bytes_per_track': '<= 8192',
+  'replay.msgs_per_s': '>= 300000',
   'e2e.ratio_to_relay': '>= 0.5',
   'e2e.p99_ms': '<= 5',
 };
