@@ -20,6 +20,9 @@ export class TrackWorkspace {
   readonly yEntry: Float64Array;
   readonly REntry: Float64Array;
   readonly identity: Float64Array;
+  /** Zeros and ones of measurement length (the innovation and S of an initializing reading). */
+  readonly zeroM: Float64Array;
+  readonly onesM: Float64Array;
   readonly maxM: number;
 
   /** Sizes everything from the estimator's settings (setup time). */
@@ -37,6 +40,8 @@ export class TrackWorkspace {
     this.R = new Float64Array(maxM * maxM);
     this.yEntry = new Float64Array(maxM);
     this.REntry = new Float64Array(maxM * maxM);
+    this.zeroM = new Float64Array(maxM);
+    this.onesM = new Float64Array(maxM).fill(1);
     this.identity = new Float64Array(n * n);
     for (let i = 0; i < n; i++) this.identity[i * n + i] = 1;
   }

@@ -257,6 +257,9 @@ export class Track {
       this.commit(tS, ws.x, ws.P);
       this.initialized = true;
       this.smoother?.push(tS, ws.x, ws.P, ws.identity, ws.x, ws.P);
+      // Counted as accepted like any applied reading; it has no innovation, so no NIS (NaN is
+      // kept out of the NIS window) and a zero innovation ratio.
+      if (live) stats.recordAccepted(Number.NaN, ws.zeroM, ws.onesM, tS);
       return 'initialized';
     }
     ws.x.set(this.x);

@@ -61,6 +61,13 @@ describe('track', () => {
     expect(track.tS).toBe(10);
   });
 
+  it('counts the initializing reading as accepted without giving it a NIS', () => {
+    const { track } = feed(estimator(), [{ sensor: 0, y: 3.5, t: 10 }, { sensor: 0, y: 3.6, t: 11 }]);
+    expect(track.stats[0]!.accepted).toBe(2);
+    expect(track.stats[0]!.windowFill).toBe(1);
+    expect(track.stats[0]!.lastTimeS).toBe(11);
+  });
+
   it('equals the plain predict/update recursion for in-order data', () => {
     const list = readings(30);
     const { track } = feed(estimator(), list);
