@@ -37,6 +37,8 @@ export class FilterWorkspace {
    */
   cachedDtS = Number.NaN;
   cachedModel: object | null = null;
+  /** The linear measurement model whose constant H (and pattern) ws.H holds, if any. */
+  cachedHModel: object | null = null;
   /** Results of the last update: the NIS d² = νᵀS⁻¹ν, and the measurement dimension used. */
   nis = Number.NaN;
   lastM = 0;

@@ -33,10 +33,14 @@ export function kalmanUpdateInPlace(
   ws.nis = Number.NaN;
   const H = ws.H;
   model.measureInto(x, ws.yhat);
-  model.jacobianInto(x, H);
-  model.innovationInto(y, ws.yhat, ws.nu);
   const pat = ws.hPattern[m]!;
-  pat.scan(H);
+  // A linear sensor's H is its constant C: written and scanned once until another model runs.
+  if (!model.linear || model !== ws.cachedHModel) {
+    model.jacobianInto(x, H);
+    pat.scan(H);
+    ws.cachedHModel = model.linear ? model : null;
+  }
+  model.innovationInto(y, ws.yhat, ws.nu);
   // U = P Hᵀ (n×m); S = H U (upper triangle, mirrored), then + R in addNoiseAndGate.
   denseTimesSparseTransposedInto(P, n, H, pat, ws.U);
   const S = ws.S;
@@ -80,10 +84,13 @@ function josephInto(
   const U = ws.U;
   const LP = ws.nn3;
   for (let i = 0; i < n; i++) {
+    const im = i * m;
+    const ni = i * n;
     for (let j = 0; j < n; j++) {
-      let s = P[i * n + j]!;
-      for (let r = 0; r < m; r++) s -= K[i * m + r]! * U[j * m + r]!;
-      LP[i * n + j] = s;
+      let s = P[ni + j]!;
+      const jm = j * m;
+      for (let r = 0; r < m; r++) s -= K[im + r]! * U[jm + r]!;
+      LP[ni + j] = s;
     }
   }
   // W = LP Hᵀ (n×m), reusing ws.Kt's storage (its contents are no longer needed).
@@ -99,20 +106,25 @@ function josephInto(
       W[i * m + r] = s;
     }
   }
-  const KR = ws.KR;
+  // D = K R − W (n×m), so the result is LP + D Kᵀ.
+  const D = ws.KR;
   for (let i = 0; i < n; i++) {
+    const im = i * m;
     for (let c = 0; c < m; c++) {
-      let s = 0;
-      for (let r = 0; r < m; r++) s += K[i * m + r]! * 0.5 * (R[r * m + c]! + R[c * m + r]!);
-      KR[i * m + c] = s;
+      let s = -W[im + c]!;
+      for (let r = 0; r < m; r++) s += K[im + r]! * 0.5 * (R[r * m + c]! + R[c * m + r]!);
+      D[im + c] = s;
     }
   }
   const out = ws.nn2;
   for (let i = 0; i < n; i++) {
+    const im = i * m;
+    const ni = i * n;
     for (let j = i; j < n; j++) {
-      let s = LP[i * n + j]!;
-      for (let c = 0; c < m; c++) s += (KR[i * m + c]! - W[i * m + c]!) * K[j * m + c]!;
-      out[i * n + j] = s;
+      let s = LP[ni + j]!;
+      const jm = j * m;
+      for (let c = 0; c < m; c++) s += D[im + c]! * K[jm + c]!;
+      out[ni + j] = s;
       out[j * n + i] = s;
     }
   }
