@@ -37,7 +37,7 @@ function snapshottedAll(r: TestReplica): boolean {
 /** Object writes under one of the first replica's epochs. */
 function writesByFirst(): string[] {
   return objectWrites.filter((name) => {
-    const m = /^partition-(\d+)-e(\d+)-s\d+$/.exec(name);
+    const m = /^partition-(\d+)-e(\d+)-s\d+-w\d+$/.exec(name);
     return m !== null && firstEpochs.get(Number(m[1])) === Number(m[2]);
   });
 }

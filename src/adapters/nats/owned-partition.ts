@@ -66,6 +66,10 @@ export class OwnedPartition {
   private writes: Promise<void> = Promise.resolve();
   private lastRenewedMs = 0;
   private refreshing = false;
+  /** Set by a disconnect until reconnected() has a new consumer: until then nothing is caught up. */
+  private restartPending = false;
+  /** Snapshot objects written whose commit is not confirmed (see commitSnapshot). */
+  private uncertain: string[] = [];
 
   constructor(readonly partition: number, private readonly ctx: PartitionContext) {}
 
@@ -161,7 +165,7 @@ export class OwnedPartition {
   }
 
   private checkCaughtUp(): void {
-    if (this.phase !== 'consuming' || this.caughtUp || this.consumer === null) return;
+    if (this.phase !== 'consuming' || this.caughtUp || this.consumer === null || this.restartPending) return;
     if (this.consumer.pending >= this.ctx.config.readyPendingBelow) return;
     this.caughtUp = true;
     this.ctx.events.emit('partition:caught-up', { partition: this.partition, seq: this.seq });
@@ -171,7 +175,7 @@ export class OwnedPartition {
   /** Asks the server how far behind we are (readiness poller). */
   async pollPending(): Promise<void> {
     const consumer = this.consumer;
-    if (this.phase !== 'consuming' || this.caughtUp || this.refreshing || consumer === null) return;
+    if (this.phase !== 'consuming' || this.caughtUp || this.refreshing || consumer === null || this.restartPending) return;
     this.refreshing = true;
     try {
       if (await consumer.refreshPending()) this.checkCaughtUp();
@@ -183,7 +187,24 @@ export class OwnedPartition {
   /** The connection dropped: what we knew about pending no longer holds. */
   disconnected(): void {
     this.caughtUp = false;
+    this.restartPending = true;
     if (this.consumer !== null) this.consumer.pending = Number.POSITIVE_INFINITY;
+  }
+
+  /**
+   * The connection is back: the server may have restarted and lost the consumer (ordered
+   * consumers are in memory), so start a new one at seq + 1 rather than wait for missed
+   * heartbeats to tell. The old one stops delivering first, so nothing is handled twice.
+   */
+  reconnected(): Promise<void> {
+    return this.serial(async () => {
+      if (this.phase !== 'consuming' || this.ctx.stopping()) return;
+      const old = this.consumer;
+      this.consumer = null;
+      void old?.stop();
+      this.restartPending = false;
+      await this.startConsumer(this.seq + 1);
+    });
   }
 
   /** An owner-record change seen by the watch: a newer epoch or a deleted record means lost. */
@@ -244,6 +265,7 @@ export class OwnedPartition {
     this.ctx.changed();
     await stopped;
     await this.ctx.ownership.acknowledgeHandover(this.partition, epoch);
+    await this.discardUnreferenced();
   }
 
   /**
@@ -256,7 +278,11 @@ export class OwnedPartition {
     return this.ctx.snapshots.build(this.partition, this.epoch, this.seq, groups.get(this.partition) ?? new Map());
   }
 
-  /** Writes `snapshot` and commits it by the guarded write; `final` also marks the record released. */
+  /**
+   * Writes `snapshot` and commits it by the guarded write; `final` also marks the record
+   * released. An object whose commit had no clear answer may be what the record points at, so
+   * it is removed only once a later commit, or the record after a loss, shows it is not.
+   */
   commitSnapshot(snapshot: PartitionSnapshot | null, final: boolean): Promise<void> {
     return this.serial(async () => {
       const c = this.ctx;
@@ -270,24 +296,34 @@ export class OwnedPartition {
           c.log.error({ partition: this.partition, err }, 'PARTITION SNAPSHOT WRITE FAILED; the next one will try again');
           return;
         }
-        if ((this.phase as PartitionPhase) === 'lost') return void c.snapshots.remove(pointer.object);
+        this.uncertain.push(pointer.object);
+        if ((this.phase as PartitionPhase) === 'lost') return this.discardUnreferenced();
       }
       const record: OwnerRecord = { ...claim.record, snapshot: pointer, state: final ? 'released' : 'active' };
       const result = await c.ownership.write(this.partition, record, claim.revision);
-      if (result.kind !== 'written') {
-        if (snapshot !== null && pointer !== null) void c.snapshots.remove(pointer.object);
-        if (result.kind === 'lost') await this.lose(result.reason);
-        else c.log.warn({ partition: this.partition, reason: result.reason }, 'partition snapshot not committed; the next one will try again');
+      if (result.kind === 'lost') return this.lose(result.reason);
+      if (result.kind === 'unavailable') {
+        c.log.warn({ partition: this.partition, reason: result.reason }, 'partition snapshot not committed; the next one will try again');
         return;
       }
-      const old = claim.record.snapshot;
+      const garbage = [...this.uncertain, claim.record.snapshot?.object].filter((o): o is string => o !== undefined && o !== pointer?.object);
+      this.uncertain = [];
       this.claim = { record, revision: result.revision };
+      for (const object of garbage) void c.snapshots.remove(object);
       if (snapshot === null || pointer === null) return;
       this.snapshotSeq = snapshot.seq;
       c.counters.snapshots += 1;
       c.events.emit('snapshot:committed', { partition: this.partition, epoch: record.epoch, seq: snapshot.seq, object: pointer.object, final });
-      if (old !== null && old.object !== pointer.object) void c.snapshots.remove(old.object);
     });
+  }
+
+  /** After a loss: removes our uncommitted objects unless the new owner's record points at one. */
+  private async discardUnreferenced(): Promise<void> {
+    if (this.uncertain.length === 0) return;
+    const current = await this.ctx.ownership.current(this.partition);
+    if (current === null) return; // no answer: keep them rather than risk the committed one
+    for (const object of this.uncertain) if (current.snapshot?.object !== object) void this.ctx.snapshots.remove(object);
+    this.uncertain = [];
   }
 
   /** Stops taking messages (before the final snapshot). */

@@ -26,6 +26,8 @@ export class PartitionConsumer {
   lastSeq: number;
   /** Messages still waiting on the server as last reported; +Infinity until known. */
   pending = Number.POSITIVE_INFINITY;
+  /** Consumer sequence of the last message from the current incarnation (reset on recreation). */
+  private deliverySeq = 0;
   private consumer: Consumer | null = null;
   private messages: ConsumerMessages | null = null;
   private stopped = false;
@@ -57,6 +59,7 @@ export class PartitionConsumer {
   private deliver(msg: JsMsg): void {
     if (this.stopped || msg.seq <= this.lastSeq) return;
     this.lastSeq = msg.seq;
+    this.deliverySeq = msg.info.deliverySequence;
     this.pending = msg.info.pending;
     this.options.onMessage(msg);
   }
@@ -64,23 +67,26 @@ export class PartitionConsumer {
   private async watchStatus(messages: ConsumerMessages): Promise<void> {
     for await (const s of messages.status()) {
       if (this.stopped) break;
-      // A recreated consumer starts at lastSeq + 1; its creation info counts what waits.
+      // A recreated consumer starts at lastSeq + 1 and counts deliveries from 1 again; its
+      // creation info counts what waits.
+      if (s.type === 'reset') this.deliverySeq = 0;
       if (s.type === 'ordered_consumer_recreated') await this.refreshPending(true);
     }
   }
 
   /**
-   * Asks the server how many messages wait (cached: the info of the consumer's creation). A
-   * server that delivered past lastSeq has messages in flight to us, so nothing is "caught up"
-   * until they are handled. Returns false when the server cannot be asked.
+   * Asks the server how many messages wait (cached: the info of the consumer's creation, when
+   * nothing has been delivered yet). Messages the server delivered that have not reached us
+   * count as waiting: the consumer's delivered count is ahead of the last one we handled.
+   * Returns false when the server cannot be asked.
    */
   async refreshPending(cached = false): Promise<boolean> {
     const consumer = this.consumer;
     if (consumer === null || this.stopped) return false;
     try {
       const info = await consumer.info(cached);
-      const inFlight = Math.max(0, info.delivered.stream_seq - this.lastSeq);
-      this.pending = info.num_pending + (cached ? 0 : inFlight);
+      const inFlight = cached ? 0 : Math.max(0, info.delivered.consumer_seq - this.deliverySeq);
+      this.pending = info.num_pending + inFlight;
       return true;
     } catch {
       return false;

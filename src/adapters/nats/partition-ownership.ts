@@ -47,6 +47,9 @@ export type GuardedWrite =
 export type HandoverOutcome = 'first-owner' | 'released' | 'acknowledged' | 'lease-expired';
 
 const CLAIM_ATTEMPTS = 8;
+const UNAVAILABLE_RETRY_MS = 250;
+
+const delay = (ms: number): Promise<void> => new Promise((resolve) => setTimeout(resolve, ms));
 const HANDOVER_POLL_MS = 20;
 
 /** JetStream's "wrong last sequence" codes: the compare-and-swap found another revision. */
@@ -62,30 +65,51 @@ function describe(err: unknown): string {
 export class PartitionOwnership {
   constructor(private readonly kv: KV, private readonly identity: ClaimantIdentity, private readonly leaseMs: number) {}
 
-  /** Claims a partition with the next epoch, carrying its snapshot pointer forward. */
+  /**
+   * Claims a partition with the next epoch, carrying its snapshot pointer forward. A write that
+   * timed out may still have been applied, so after any failure the record is read again: if it
+   * holds our replica id and the epoch we tried, the claim is ours.
+   */
   async claim(partition: number): Promise<Claim> {
     const key = ownerKey(partition);
     let lastError: unknown = null;
+    let tried: { record: OwnerRecord; previous: OwnerRecord | null } | null = null;
     for (let attempt = 0; attempt < CLAIM_ATTEMPTS; attempt++) {
-      const entry = await this.kv.get(key);
-      const previous = entry !== null && entry.operation === 'PUT' ? decodeOwnerRecord(entry.value) : null;
+      const entry = await this.kv.get(key).catch((err: unknown) => ((lastError = err), undefined));
+      if (entry === undefined) {
+        await delay(UNAVAILABLE_RETRY_MS);
+        continue;
+      }
+      const current = entry !== null && entry.operation === 'PUT' ? decodeOwnerRecord(entry.value) : null;
+      if (tried !== null && current !== null && this.isOurs(current, tried.record.epoch)) return { record: current, revision: entry!.revision, previous: tried.previous };
       const record: OwnerRecord = {
         ...this.identity,
         // An epoch never exceeds the revision that wrote it, so a record that was deleted or
         // overwritten with something unreadable still gets a larger epoch than any before it.
-        epoch: (previous !== null ? previous.epoch : (entry?.revision ?? 0)) + 1,
+        epoch: (current !== null ? current.epoch : (entry?.revision ?? 0)) + 1,
         state: 'active',
-        snapshot: previous?.snapshot ?? null,
+        snapshot: current?.snapshot ?? null,
       };
+      tried = { record, previous: current };
       try {
         const revision = entry === null ? await this.kv.create(key, encodeRecord(record)) : await this.kv.update(key, encodeRecord(record), entry.revision);
-        return { record, revision, previous };
+        return { record, revision, previous: current };
       } catch (err) {
-        if (!isCasConflict(err)) throw err;
-        lastError = err; // another claimant wrote between our read and write: read again
+        lastError = err; // another claimant wrote between our read and write, or no answer: read again
+        if (!isCasConflict(err)) await delay(UNAVAILABLE_RETRY_MS);
       }
     }
     throw new Error(`could not claim partition ${partition} in ${CLAIM_ATTEMPTS} attempts: ${describe(lastError)}`);
+  }
+
+  private isOurs(record: OwnerRecord, epoch: number): boolean {
+    return record.epoch === epoch && record.replica === this.identity.replica;
+  }
+
+  /** The partition's owner record now, or null (absent, deleted, unreadable or no answer). Never throws. */
+  async current(partition: number): Promise<OwnerRecord | null> {
+    const entry = await this.kv.get(ownerKey(partition)).catch(() => null);
+    return entry === null || entry.operation !== 'PUT' ? null : decodeOwnerRecord(entry.value);
   }
 
   /** Waits until the previous owner cannot be consuming any more (module comment). */
@@ -97,18 +121,32 @@ export class PartitionOwnership {
       const entry = await this.kv.get(handoverKey(partition)).catch(() => null);
       const ack = entry === null || entry.operation !== 'PUT' ? null : decodeHandoverRecord(entry.value);
       if (ack !== null && ack.epoch >= previous.epoch) return 'acknowledged';
-      await new Promise((resolve) => setTimeout(resolve, HANDOVER_POLL_MS));
+      await delay(HANDOVER_POLL_MS);
     }
     return 'lease-expired';
   }
 
-  /** Replaces the owner record if it is still at `revision`. Never throws. */
+  /**
+   * Replaces the owner record if it is still at `revision`. Never throws. A conflict is a loss
+   * only if the record now holds another epoch: when it still holds ours, an earlier write of
+   * ours that timed out was applied after all, and the write is retried on its revision.
+   */
   async write(partition: number, record: OwnerRecord, revision: number): Promise<GuardedWrite> {
+    const key = ownerKey(partition);
     try {
-      return { kind: 'written', revision: await this.kv.update(ownerKey(partition), encodeRecord(record), revision) };
+      return { kind: 'written', revision: await this.kv.update(key, encodeRecord(record), revision) };
     } catch (err) {
-      if (isCasConflict(err)) return { kind: 'lost', reason: `the owner record moved past revision ${revision}: another replica claimed the partition` };
-      return { kind: 'unavailable', reason: describe(err) };
+      if (!isCasConflict(err)) return { kind: 'unavailable', reason: describe(err) };
+    }
+    try {
+      const entry = await this.kv.get(key);
+      const current = entry === null || entry.operation !== 'PUT' ? null : decodeOwnerRecord(entry.value);
+      if (entry === null || current === null || !this.isOurs(current, record.epoch)) {
+        return { kind: 'lost', reason: current === null ? 'the owner record was deleted or overwritten' : `replica ${current.replica} claimed it with epoch ${current.epoch}` };
+      }
+      return { kind: 'written', revision: await this.kv.update(key, encodeRecord(record), entry.revision) };
+    } catch (err) {
+      return isCasConflict(err) ? { kind: 'lost', reason: 'the owner record changed twice during one write' } : { kind: 'unavailable', reason: describe(err) };
     }
   }
 
@@ -137,7 +175,7 @@ export class PartitionOwnership {
         } catch {
           // the connection is down or closing; try again below unless stopped
         }
-        if (!stopped) await new Promise((resolve) => setTimeout(resolve, 250));
+        if (!stopped) await delay(UNAVAILABLE_RETRY_MS);
       }
     };
     void run();

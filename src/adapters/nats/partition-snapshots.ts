@@ -27,6 +27,8 @@ export interface PartitionSnapshot {
 /** A snapshot read back, or why it cannot be used. */
 export type SnapshotRead = { readonly ok: true; readonly snapshot: PartitionSnapshot } | { readonly ok: false; readonly reason: string };
 
+const READ_ATTEMPTS = 3;
+const READ_TIMEOUT_MS = 10_000;
 const encoder = new TextEncoder();
 const decoder = new TextDecoder();
 
@@ -35,9 +37,15 @@ export class PartitionSnapshotStore {
   /** `fingerprint`: the structural configuration fingerprint a snapshot must carry to be restored. */
   constructor(private readonly store: ObjectStore, private readonly fingerprint: string) {}
 
-  /** The object name of a snapshot; unique per (partition, epoch, seq). */
-  static objectName(partition: number, epoch: number, seq: number): string {
-    return `partition-${partition}-e${epoch}-s${seq}`;
+  private writes = 0;
+
+  /**
+   * The object name of a snapshot: partition, epoch, sequence and a write number, so no name is
+   * ever written twice. (Writing a name again purges the old chunks, and a claimant reading
+   * them at that moment would wait for chunks that are gone.)
+   */
+  static objectName(partition: number, epoch: number, seq: number, write: number): string {
+    return `partition-${partition}-e${epoch}-s${seq}-w${write}`;
   }
 
   /**
@@ -50,14 +58,23 @@ export class PartitionSnapshotStore {
 
   /** Stores a built snapshot; returns the pointer to commit in the owner record. */
   async write(snapshot: PartitionSnapshot): Promise<SnapshotPointer> {
-    const object = PartitionSnapshotStore.objectName(snapshot.partition, snapshot.epoch, snapshot.seq);
+    this.writes += 1;
+    const object = PartitionSnapshotStore.objectName(snapshot.partition, snapshot.epoch, snapshot.seq, this.writes);
     await this.store.putBlob({ name: object }, encoder.encode(JSON.stringify(snapshot)));
     return { object, seq: snapshot.seq };
   }
 
   /** Reads the snapshot a record points at and checks it belongs to `partition` and this configuration. */
   async read(pointer: SnapshotPointer, partition: number): Promise<SnapshotRead> {
-    const bytes = await this.store.getBlob(pointer.object);
+    let bytes: Uint8Array | null = null;
+    for (let attempt = 1; ; attempt++) {
+      try {
+        bytes = await this.readObject(pointer.object);
+        break;
+      } catch (err) {
+        if (attempt === READ_ATTEMPTS) return { ok: false, reason: `object ${pointer.object} could not be read: ${String(err)}` };
+      }
+    }
     if (bytes === null) return { ok: false, reason: `object ${pointer.object} is missing from the snapshot store` };
     let value: unknown;
     try {
@@ -75,6 +92,39 @@ export class PartitionSnapshotStore {
     const doc = checkDocument(v.checkpoint, this.fingerprint);
     if (isDocumentIssue(doc)) return { ok: false, reason: doc.reason };
     return { ok: true, snapshot: { ...(v as PartitionSnapshot), checkpoint: doc } };
+  }
+
+  /**
+   * An object's bytes, or null when it does not exist. The client waits for an object's chunks
+   * without a time limit (they may have been purged after its metadata was read), so the read
+   * is bounded here and cancelled when it takes too long.
+   */
+  private async readObject(name: string): Promise<Uint8Array | null> {
+    const result = await this.store.get(name);
+    if (result === null) return null;
+    void result.error.catch(() => undefined); // a corrupt object also errors the stream below
+    const reader = result.data.getReader();
+    const chunks: Uint8Array[] = [];
+    let timer: NodeJS.Timeout | undefined;
+    const timeout = new Promise<never>((_, reject) => {
+      timer = setTimeout(() => reject(new Error(`no data for ${READ_TIMEOUT_MS} ms`)), READ_TIMEOUT_MS);
+    });
+    try {
+      for (;;) {
+        const { done, value } = await Promise.race([reader.read(), timeout]);
+        if (done) break;
+        chunks.push(value);
+      }
+    } catch (err) {
+      void reader.cancel().catch(() => undefined);
+      throw err;
+    } finally {
+      clearTimeout(timer);
+    }
+    const out = new Uint8Array(chunks.reduce((n, c) => n + c.length, 0));
+    let offset = 0;
+    for (const c of chunks) out.set(c, (offset += c.length) - c.length);
+    return out;
   }
 
   /** Deletes an object (a superseded or uncommitted snapshot). Never throws. */

@@ -98,7 +98,9 @@ export class ScaleOutNode {
     this.nc = nc;
     this.connected = true;
     void this.watchConnection(nc);
-    const jsm = await jetstreamManager(nc);
+    // JetStream requests time out after half a lease (1-5 s), not the client's 5 s: a renewal
+    // sent while the server is still recovering must fail and be retried before the lease runs out.
+    const jsm = await jetstreamManager(nc, { timeout: Math.min(5000, Math.max(1000, Math.round(c.leaseMs / 2))) });
     const pieces = await provisionJetStream(jsm, c);
     const ownership = new PartitionOwnership(pieces.owners, this.identity, c.leaseMs);
     const ctx: PartitionContext = {
@@ -136,8 +138,8 @@ export class ScaleOutNode {
         this.checkReady();
       } else if (s.type === 'reconnect') {
         this.connected = true;
-        // Prove ownership again before anything else: the server may have seen a claim meanwhile.
-        for (const p of this.parts) void p.renew();
+        // Prove ownership again (the server may have seen a claim meanwhile), then resume.
+        for (const p of this.parts) void p.renew().then(() => p.reconnected());
       }
     }
   }
