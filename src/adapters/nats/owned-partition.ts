@@ -4,74 +4,42 @@
  * or stopped with a final snapshot. Every owner-record write (renewal, snapshot commit,
  * release) is a compare-and-swap on the revision kept from the claim, run one at a time.
  */
-import type { JetStreamClient, JsMsg } from '@nats-io/jetstream';
-import type { DeepReadonly } from '../../config/deep-freeze.js';
-import type { ScaleOutConfig } from '../../config/scale-out-schema.js';
-import type { EngineHandle } from '../../engine/engine-handle.js';
 import type { OwnerRecord } from './owner-record.js';
-import { PartitionConsumer } from './partition-consumer.js';
-import type { PartitionOwnership } from './partition-ownership.js';
-import type { PartitionSnapshot, PartitionSnapshotStore } from './partition-snapshots.js';
+import type { PartitionContext } from './partition-context.js';
+import { PartitionIntake } from './partition-intake.js';
+import type { PartitionSnapshot } from './partition-snapshots.js';
 import { adoptCheckpoint, type TrackSet } from './partition-tracks.js';
-import type { ScaleOutEvents } from './scale-out-events.js';
-import type { PartitionRouter } from './subject-routes.js';
 
 /** Where a partition is in its life (module comment). */
 export type PartitionPhase = 'claiming' | 'handover' | 'restoring' | 'consuming' | 'suspended' | 'lost' | 'stopped';
 
-/** The log calls a partition makes (pino's signature). */
-export interface ScaleOutLogger {
-  info(obj: object, msg: string): void;
-  warn(obj: object, msg: string): void;
-  error(obj: object, msg: string): void;
-}
-
-/** Counters shared by a node's partitions. */
-export interface ScaleOutCounters {
-  drift: number;
-  unrouted: number;
-  snapshots: number;
-}
-
-/** What a partition shares with its node. */
-export interface PartitionContext {
-  readonly config: DeepReadonly<ScaleOutConfig>;
-  readonly js: JetStreamClient;
-  readonly ownership: PartitionOwnership;
-  readonly snapshots: PartitionSnapshotStore;
-  readonly router: PartitionRouter;
-  readonly handle: EngineHandle;
-  readonly events: ScaleOutEvents;
-  readonly log: ScaleOutLogger;
-  readonly now: () => number;
-  readonly counters: ScaleOutCounters;
-  readonly stopping: () => boolean;
-  /** Drops the partition's tracks from the engine (batched by the node). */
-  readonly dropTracks: (partition: number) => void;
-  /** Something readiness depends on changed. */
-  readonly changed: () => void;
-}
-
 /** See the module comment. */
 export class OwnedPartition {
   phase: PartitionPhase = 'claiming';
-  /** True once fewer than readyPendingBelow messages wait (false again after a disconnect). */
-  caughtUp = false;
-  /** The last stream sequence handed to the engine (the snapshot's before the first message). */
-  seq = 0;
   /** The sequence of the last committed snapshot (0: none). */
   snapshotSeq = 0;
+  private readonly intake: PartitionIntake;
   private claim: { record: OwnerRecord; revision: number } | null = null;
-  private consumer: PartitionConsumer | null = null;
   private writes: Promise<void> = Promise.resolve();
   private lastRenewedMs = 0;
-  private refreshing = false;
-  /** Set by a disconnect until reconnected() has a new consumer: until then nothing is caught up. */
-  private restartPending = false;
   /** Snapshot objects written whose commit is not confirmed (see commitSnapshot). */
   private uncertain: string[] = [];
 
-  constructor(readonly partition: number, private readonly ctx: PartitionContext) {}
+  constructor(readonly partition: number, private readonly ctx: PartitionContext) {
+    this.intake = new PartitionIntake(partition, ctx, (reason) => {
+      if (this.phase === 'consuming') this.suspend(reason);
+    });
+  }
+
+  /** The last stream sequence handed to the engine (the snapshot's before the first message). */
+  get seq(): number {
+    return this.intake.seq;
+  }
+
+  /** True once the partition has caught up (see PartitionIntake). */
+  get caughtUp(): boolean {
+    return this.phase === 'consuming' && this.intake.caughtUp;
+  }
 
   /** The epoch of our claim (0 before it). */
   get epoch(): number {
@@ -80,7 +48,7 @@ export class OwnedPartition {
 
   /** Messages waiting as last known (+Infinity when unknown). */
   get pending(): number {
-    return this.consumer?.pending ?? Number.POSITIVE_INFINITY;
+    return this.intake.pending;
   }
 
   /** Claims, waits for the handover, restores and starts consuming. Throws when the claim cannot be written. */
@@ -114,96 +82,25 @@ export class OwnedPartition {
         c.log.warn({ partition: this.partition, reason: read.reason }, 'partition snapshot unusable; replaying the stream from its start');
       }
     }
-    this.seq = fromSeq - 1;
     this.phase = 'consuming';
     c.events.emit('partition:consuming', { partition: this.partition, epoch: this.epoch, fromSeq, restored, handover, snapshotProblem: problem });
-    await this.startConsumer(fromSeq);
-  }
-
-  private async startConsumer(fromSeq: number): Promise<void> {
-    const c = this.ctx;
-    const consumer = new PartitionConsumer({
-      js: c.js,
-      stream: c.config.stream,
-      filter: c.router.filterOf(this.partition),
-      fromSeq,
-      onMessage: (msg) => this.onMessage(msg),
-    });
-    this.consumer = consumer;
-    this.caughtUp = false;
-    try {
-      await consumer.start();
-    } catch (err) {
-      if (this.consumer !== consumer) return;
-      this.consumer = null;
-      void consumer.stop();
-      if (this.phase === 'consuming') this.suspend(`the consumer could not be created: ${String(err)}`);
-      return;
-    }
-    this.checkCaughtUp();
-  }
-
-  private onMessage(msg: JsMsg): void {
-    if (this.phase !== 'consuming') return;
-    const c = this.ctx;
-    this.seq = msg.seq;
-    const routed = c.router.route(msg.subject);
-    if (routed === null) {
-      c.counters.unrouted += 1;
-      return;
-    }
-    if (routed.expected === -1) c.counters.unrouted += 1;
-    else if (routed.expected !== routed.partition) {
-      c.counters.drift += 1;
-      c.events.emit('drift', { partition: routed.partition, expected: routed.expected, subject: msg.subject });
-    }
-    // The broker's receive time, not ours: a replay then decodes exactly as the live run did.
-    const arrivalMs = Math.floor(msg.info.timestampNanos / 1e6);
-    c.handle.engine.handleMessage(routed.topic, msg.data, arrivalMs);
-    if (c.events.has('message')) c.events.emit('message', { partition: this.partition, seq: msg.seq, topic: routed.topic, arrivalMs });
-    if (!this.caughtUp) this.checkCaughtUp();
-  }
-
-  private checkCaughtUp(): void {
-    if (this.phase !== 'consuming' || this.caughtUp || this.consumer === null || this.restartPending) return;
-    if (this.consumer.pending >= this.ctx.config.readyPendingBelow) return;
-    this.caughtUp = true;
-    this.ctx.events.emit('partition:caught-up', { partition: this.partition, seq: this.seq });
-    this.ctx.changed();
+    await this.intake.start(fromSeq);
   }
 
   /** Asks the server how far behind we are (readiness poller). */
-  async pollPending(): Promise<void> {
-    const consumer = this.consumer;
-    if (this.phase !== 'consuming' || this.caughtUp || this.refreshing || consumer === null || this.restartPending) return;
-    this.refreshing = true;
-    try {
-      if (await consumer.refreshPending()) this.checkCaughtUp();
-    } finally {
-      this.refreshing = false;
-    }
+  pollPending(): Promise<void> {
+    return this.phase === 'consuming' ? this.intake.poll() : Promise.resolve();
   }
 
-  /** The connection dropped: what we knew about pending no longer holds. */
+  /** The connection dropped. */
   disconnected(): void {
-    this.caughtUp = false;
-    this.restartPending = true;
-    if (this.consumer !== null) this.consumer.pending = Number.POSITIVE_INFINITY;
+    this.intake.disconnected();
   }
 
-  /**
-   * The connection is back: the server may have restarted and lost the consumer (ordered
-   * consumers are in memory), so start a new one at seq + 1 rather than wait for missed
-   * heartbeats to tell. The old one stops delivering first, so nothing is handled twice.
-   */
+  /** The connection is back: a new consumer at seq + 1 (PartitionIntake.restart). */
   reconnected(): Promise<void> {
     return this.serial(async () => {
-      if (this.phase !== 'consuming' || this.ctx.stopping()) return;
-      const old = this.consumer;
-      this.consumer = null;
-      void old?.stop();
-      this.restartPending = false;
-      await this.startConsumer(this.seq + 1);
+      if (this.phase === 'consuming' && !this.ctx.stopping()) await this.intake.restart();
     });
   }
 
@@ -236,10 +133,7 @@ export class OwnedPartition {
 
   private suspend(reason: string): void {
     this.phase = 'suspended';
-    this.caughtUp = false;
-    const consumer = this.consumer;
-    this.consumer = null;
-    void consumer?.stop();
+    void this.intake.stop();
     this.ctx.events.emit('partition:suspended', { partition: this.partition, reason });
     this.ctx.log.warn({ partition: this.partition, reason }, 'partition consumption suspended');
     this.ctx.changed();
@@ -248,17 +142,14 @@ export class OwnedPartition {
   private async resume(): Promise<void> {
     this.phase = 'consuming';
     this.ctx.events.emit('partition:resumed', { partition: this.partition, fromSeq: this.seq + 1 });
-    await this.startConsumer(this.seq + 1);
+    await this.intake.restart();
   }
 
   private async lose(reason: string): Promise<void> {
     if (this.phase === 'lost' || this.phase === 'stopped') return;
     const epoch = this.epoch;
     this.phase = 'lost';
-    this.caughtUp = false;
-    const consumer = this.consumer;
-    this.consumer = null;
-    const stopped = consumer?.stop(); // stops delivery synchronously; closing finishes later
+    const stopped = this.intake.stop(); // stops delivery synchronously; closing finishes later
     this.ctx.dropTracks(this.partition);
     this.ctx.events.emit('partition:lost', { partition: this.partition, epoch, reason });
     this.ctx.log.warn({ partition: this.partition, epoch, reason }, 'PARTITION LOST: stopped consuming it and writing its snapshots');
@@ -327,10 +218,8 @@ export class OwnedPartition {
   }
 
   /** Stops taking messages (before the final snapshot). */
-  async stopIntake(): Promise<void> {
-    const consumer = this.consumer;
-    this.consumer = null;
-    await consumer?.stop();
+  stopIntake(): Promise<void> {
+    return this.intake.stop();
   }
 
   /** Marks the partition stopped (after the final snapshot). */
