@@ -21,6 +21,7 @@ import { CheckpointKeeper } from './daemon/checkpoint-keeper.js';
 import { DemoSimulator } from './daemon/demo-simulator.js';
 import { wireEngineLogging } from './daemon/engine-logging.js';
 import { DASHBOARD_VENDOR_ASSETS } from './dashboard/vendor-assets.js';
+import { createScaleOutMode } from './adapters/nats/scale-out-mode.js';
 
 /** What the shell gives the app (the CLI passes real ones; tests may pass fakes). */
 export interface AppDeps {
@@ -73,6 +74,8 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
   let brokerUrl = '';
   let stopping: Promise<void> | null = null;
   const checkpoints = new CheckpointKeeper(config, handle, log, now);
+  // Scale-out mode: input from the partition stream, per-partition snapshots instead of the file.
+  const scaleOut = createScaleOutMode({ config, current: () => config, handle, publisher, events, registry, logger: log, now });
   const unwireLogs = wireEngineLogging(events, log);
 
   const onMessage = (topic: string, payload: Buffer, arrivalMs: number): void => {
@@ -86,7 +89,7 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
       broker: resolved,
       clientId: b.clientId ?? `statecast-${hostname()}`,
       logger: log,
-      subscriptions: handle.engine.subscriptions(),
+      subscriptions: scaleOut === null ? handle.engine.subscriptions() : [],
       onMessage,
       waitForConnect: false,
     });
@@ -111,10 +114,10 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
 
   return {
     handle,
-    ready: () => connection?.connected === true && stopping === null,
+    ready: () => connection?.connected === true && stopping === null && (scaleOut?.ready() ?? true),
 
     async start(): Promise<StartedApp> {
-      const restored = await checkpoints.restore();
+      const restored = scaleOut === null ? await checkpoints.restore() : 0;
       if (restored > 0) log.info({ tracks: restored }, 'restored tracks from the checkpoint');
       if (config.broker.url === undefined) {
         broker = await startEmbeddedBroker({ host: config.embeddedBroker.host, port: config.embeddedBroker.port });
@@ -129,7 +132,7 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
         view: handle,
         registry,
         ...(config.auth.token === undefined ? {} : { token: config.auth.token }),
-        readiness: () => ({ ready: this.ready(), checks: { config: true, broker: connection?.connected === true } }),
+        readiness: () => ({ ready: this.ready(), checks: { config: true, broker: connection?.connected === true, ...(scaleOut === null ? {} : { partitions: scaleOut.ready() }) } }),
         staticDir: DASHBOARD_DIR,
         extraFiles: DASHBOARD_VENDOR_ASSETS,
         logger: log,
@@ -155,8 +158,9 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
       stream.start();
       metrics.start();
       await connect();
+      await scaleOut?.start();
       startTimers();
-      checkpoints.startPeriodic();
+      if (scaleOut === null) checkpoints.startPeriodic();
       if (config.simulator.enabled) {
         simulator = new DemoSimulator(config.simulator, brokerUrl, broker === null ? config.broker.protocolVersion : 4, log, now);
         await simulator.start();
@@ -191,8 +195,9 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
           simulator?.stop();
           stopTimers();
           checkpoints.stopPeriodic();
+          await scaleOut?.stop(); // the source first: final partition snapshots, then release
           await connection?.stop({ finalStatus: true });
-          await checkpoints.saveNow('shutdown');
+          if (scaleOut === null) await checkpoints.saveNow('shutdown');
           metrics?.stop();
           await stream?.stop();
           await http?.stop();
