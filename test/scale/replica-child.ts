@@ -22,7 +22,7 @@ export type ChildReport =
   | { type: 'handled'; partition: number; seq: number }
   | { type: 'snapshot'; partition: number; seq: number }
   | { type: 'states'; states: [string, { x: number[]; P: number[] }][] }
-  | { type: 'stats'; handled: number; cpuUserUs: number; cpuSystemUs: number }
+  | { type: 'stats'; handled: number; firstAtMs: number; lastAtMs: number; cpuSinceFirstUs: number }
   | { type: 'stopped' }
   | { type: 'error'; message: string };
 
@@ -36,15 +36,23 @@ node.events.on('ready:changed', ({ ready }) => send({ type: 'ready', ready, part
 node.events.on('partition:consuming', (e) => send({ type: 'consuming', partition: e.partition, fromSeq: e.fromSeq, restored: e.restored }));
 node.events.on('snapshot:committed', (e) => send({ type: 'snapshot', partition: e.partition, seq: e.seq }));
 let handled = 0;
+let firstAtMs = 0;
+let lastAtMs = 0;
+let cpuAtFirst: NodeJS.CpuUsage = { user: 0, system: 0 };
 node.events.on('message', (m) => {
+  if (handled === 0) {
+    firstAtMs = Date.now();
+    cpuAtFirst = process.cpuUsage();
+  }
   handled += 1;
+  lastAtMs = Date.now();
   if (options.reportMessages) send({ type: 'handled', partition: m.partition, seq: m.seq });
 });
 process.on('message', (m: { type: string }) => {
   if (m.type === 'states') send({ type: 'states', states: [...trackStates(replica.handle.engine)] });
   if (m.type === 'stats') {
-    const cpu = process.cpuUsage();
-    send({ type: 'stats', handled, cpuUserUs: cpu.user, cpuSystemUs: cpu.system });
+    const cpu = process.cpuUsage(cpuAtFirst);
+    send({ type: 'stats', handled, firstAtMs, lastAtMs, cpuSinceFirstUs: handled === 0 ? 0 : cpu.user + cpu.system });
   }
   if (m.type === 'stop') void node.stop().then(() => (send({ type: 'stopped' }), process.disconnect()));
 });

@@ -6,6 +6,9 @@ import type { JsMsg } from '@nats-io/jetstream';
 import type { PartitionContext } from './partition-context.js';
 import { PartitionConsumer } from './partition-consumer.js';
 
+/** How long a partition's messages must have been silent before the poller asks the server. */
+const POLL_IDLE_MS = 1000;
+
 /** See the module comment. */
 export class PartitionIntake {
   /** The last stream sequence handed to the engine. */
@@ -14,6 +17,8 @@ export class PartitionIntake {
   caughtUp = false;
   private consumer: PartitionConsumer | null = null;
   private refreshing = false;
+  /** When a message or a poll last told us the pending count (ms, Date.now). */
+  private lastToldMs = 0;
   /** Set by a disconnect until restart() has a new consumer: until then nothing is caught up. */
   private restartPending = false;
 
@@ -63,6 +68,7 @@ export class PartitionIntake {
   private onMessage(msg: JsMsg): void {
     const c = this.ctx;
     this.seq = msg.seq;
+    this.lastToldMs = Date.now();
     const routed = c.router.route(msg.subject);
     if (routed === null) {
       c.counters.unrouted += 1;
@@ -88,10 +94,17 @@ export class PartitionIntake {
     this.ctx.changed();
   }
 
-  /** Asks the server how far behind we are (readiness poller). */
+  /**
+   * Asks the server how far behind we are (readiness poller), only for a partition whose
+   * messages have not told us for POLL_IDLE_MS: each message carries the pending count, and a
+   * consumer-info request makes nats-server 2.9 count a wildcard filter's pending messages
+   * over the stream (64 partitions polled five times a second stalled its read loop for seconds).
+   */
   async poll(): Promise<void> {
     const consumer = this.consumer;
     if (this.caughtUp || this.refreshing || consumer === null || this.restartPending) return;
+    if (Date.now() - this.lastToldMs < POLL_IDLE_MS) return;
+    this.lastToldMs = Date.now();
     this.refreshing = true;
     try {
       if (await consumer.refreshPending()) this.checkCaughtUp();
