@@ -40,17 +40,36 @@ function accepts(port: number): Promise<boolean> {
 }
 
 /** Starts nats-server with `mappingsBlock` (nats-server config syntax) added to its config. */
-export async function startNatsServer(mappingsBlock: string): Promise<NatsTestServer> {
+export function startNatsServer(mappingsBlock: string): Promise<NatsTestServer> {
+  return startNatsServerWith((ports) => [`server_name: statecast-test-${ports.port}`, `mqtt { listen: "127.0.0.1:${ports.mqttPort}" }`, mappingsBlock].join('\n'));
+}
+
+/** The loopback ports and store a test server gets. */
+export interface TestServerPorts {
+  readonly port: number;
+  readonly mqttPort: number;
+  readonly httpPort: number;
+  /** The JetStream store directory (inside the server's temp dir). */
+  readonly storeDir: string;
+}
+
+/**
+ * Starts nats-server with the config text `configOf` writes for the given ports. The client port
+ * is also passed on the command line (which overrides the file), and so are JetStream and its
+ * store unless `jetStreamInConfig` (nats-server refuses both). `env` is added to the server's
+ * environment (for `$VAR` references in the config).
+ */
+export async function startNatsServerWith(
+  configOf: (ports: TestServerPorts) => string,
+  env: Record<string, string> = {},
+  jetStreamInConfig = false,
+): Promise<NatsTestServer> {
   accessSync(NATS_SERVER_BINARY, constants.X_OK); // install with: apt-get install -y nats-server
   const dir = await mkdtemp(join(tmpdir(), 'statecast-nats-'));
-  const port = await freePort();
-  const mqttPort = await freePort();
+  const ports: TestServerPorts = { port: await freePort(), mqttPort: await freePort(), httpPort: await freePort(), storeDir: join(dir, 'js') };
+  const { port, mqttPort } = ports;
   const configFile = join(dir, 'nats.conf');
-  await writeFile(configFile, [
-    `server_name: statecast-test-${port}`,
-    `mqtt { listen: "127.0.0.1:${mqttPort}" }`,
-    mappingsBlock,
-  ].join('\n'));
+  await writeFile(configFile, configOf(ports));
   let child: ChildProcess | null = null;
   let exited: Promise<void> = Promise.resolve();
   let output = '';
@@ -59,7 +78,11 @@ export async function startNatsServer(mappingsBlock: string): Promise<NatsTestSe
   process.once('exit', killOnExit);
 
   const start = async (): Promise<void> => {
-    const proc = spawn(NATS_SERVER_BINARY, ['-c', configFile, '-a', '127.0.0.1', '-p', String(port), '-js', '-sd', join(dir, 'js')], { stdio: ['ignore', 'pipe', 'pipe'] });
+    const args = ['-c', configFile, '-a', '127.0.0.1', '-p', String(port), ...(jetStreamInConfig ? [] : ['-js', '-sd', ports.storeDir])];
+    const proc = spawn(NATS_SERVER_BINARY, args, {
+      stdio: ['ignore', 'pipe', 'pipe'],
+      env: { ...process.env, ...env },
+    });
     child = proc;
     let gone = false;
     exited = new Promise((resolve) => proc.once('exit', () => ((gone = true), resolve())));
