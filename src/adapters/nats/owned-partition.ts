@@ -163,10 +163,10 @@ export class OwnedPartition {
    * This partition's snapshot now, if there is something to write (always null for a partition
    * we do not hold). Synchronous with reading `seq`, so the cut is consistent.
    */
-  prepareSnapshot(groups: ReadonlyMap<number, TrackSet>): PartitionSnapshot | null {
+  prepareSnapshot(tracks: () => TrackSet): PartitionSnapshot | null {
     if (this.claim === null || (this.phase !== 'consuming' && this.phase !== 'suspended')) return null;
     if (this.seq === this.snapshotSeq) return null;
-    return this.ctx.snapshots.build(this.partition, this.epoch, this.seq, groups.get(this.partition) ?? new Map());
+    return this.ctx.snapshots.build(this.partition, this.epoch, this.seq, tracks());
   }
 
   /**

@@ -47,18 +47,13 @@ export function dropPartitions(handle: EngineHandle, makeEngine: () => Engine, d
   return count;
 }
 
-/** Every track grouped by partition (one pass; for a round of snapshots). */
-export function tracksByPartition(engine: Engine, partitions: number): Map<number, TrackSet> {
-  const out = new Map<number, TrackSet>();
+/** The tracks of one partition (a pass over every track: fine once per snapshot). */
+export function tracksOfPartition(engine: Engine, partition: number, partitions: number): TrackSet {
+  const out: TrackSet = new Map();
   for (const [estimator, byEntity] of engine.tracks()) {
-    for (const [entity, track] of byEntity) {
-      const p = partitionOfEntity(entity, partitions);
-      let set = out.get(p);
-      if (set === undefined) out.set(p, (set = new Map()));
-      let mine = set.get(estimator);
-      if (mine === undefined) set.set(estimator, (mine = new Map()));
-      mine.set(entity, track);
-    }
+    const mine = new Map<string, Track>();
+    for (const [entity, track] of byEntity) if (partitionOfEntity(entity, partitions) === partition) mine.set(entity, track);
+    if (mine.size > 0) out.set(estimator, mine);
   }
   return out;
 }

@@ -16,7 +16,7 @@ import { OwnedPartition, type PartitionPhase } from './owned-partition.js';
 import type { PartitionContext, ScaleOutCounters, ScaleOutLogger } from './partition-context.js';
 import { PartitionOwnership } from './partition-ownership.js';
 import { PartitionSnapshotStore } from './partition-snapshots.js';
-import { dropPartitions, tracksByPartition } from './partition-tracks.js';
+import { dropPartitions, tracksOfPartition } from './partition-tracks.js';
 import { ownedPartitions, resolveReplicaIdentity, type ReplicaIdentity } from './replica-identity.js';
 import { ScaleOutEvents } from './scale-out-events.js';
 import { PartitionRouter } from './subject-routes.js';
@@ -158,12 +158,21 @@ export class ScaleOutNode {
     this.pendingDrops.add(partition);
   }
 
-  /** Snapshots every owned partition with news (all built in one tick, then written). */
+  /**
+   * Snapshots every owned partition with news, one partition per event-loop turn: building a
+   * snapshot copies its tracks synchronously (about 1-3 ms per yard track with a full minute of
+   * history), so building all at once would hold up messages and renewals for seconds.
+   */
   private async snapshotRound(final: boolean): Promise<void> {
     if (this.stopped !== null && !final) return;
-    const groups = tracksByPartition(this.options.handle.engine, this.options.config.partitions);
-    const prepared = this.parts.map((p) => [p, p.prepareSnapshot(groups)] as const);
-    await Promise.all(prepared.map(([p, s]) => p.commitSnapshot(s, final)));
+    const { handle, config } = this.options;
+    const commits: Promise<void>[] = [];
+    for (const p of this.parts) {
+      await new Promise<void>((resolve) => setImmediate(resolve));
+      const snapshot = p.prepareSnapshot(() => tracksOfPartition(handle.engine, p.partition, config.partitions));
+      commits.push(p.commitSnapshot(snapshot, final));
+    }
+    await Promise.all(commits);
   }
 
   /** True when connected, started, not stopping, and every owned partition consumes and has caught up. */
