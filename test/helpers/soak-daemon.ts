@@ -50,6 +50,11 @@ export interface SoakDaemon {
   readonly logs: readonly DaemonLogLine[];
   /** Stderr lines that were not JSON (a crash trace, a warning from node). */
   readonly otherOutput: readonly string[];
+  /**
+   * Every warning and error since start by message (with its `err` text or `reasons` when
+   * given): unlike `logs`, which keeps the latest lines only, this counts all of them.
+   */
+  readonly warningCounts: ReadonlyMap<string, number>;
   /** True while the process has not exited. */
   readonly running: boolean;
   /** Resolves with the exit code and signal once the process has exited. */
@@ -137,6 +142,15 @@ export async function startSoakDaemon(options: SoakDaemonOptions): Promise<SoakD
 
   const logs: DaemonLogLine[] = [];
   const otherOutput: string[] = [];
+  const warningCounts = new Map<string, number>();
+  const countWarning = (line: DaemonLogLine): void => {
+    if (line.level < 40) return;
+    const err = line['err'];
+    const detail = err === undefined ? '' : ` (${typeof err === 'string' ? err : String((err as { message?: unknown }).message ?? JSON.stringify(err)).slice(0, 120)})`;
+    const reasons = Array.isArray(line['reasons']) ? ` [${(line['reasons'] as unknown[]).join(', ')}]` : typeof line['reason'] === 'string' ? ` [${line['reason']}]` : '';
+    const key = `${line.msg}${detail}${reasons}`;
+    warningCounts.set(key, (warningCounts.get(key) ?? 0) + 1);
+  };
   let stdout = '';
   let partial = '';
   const waiters = new Set<() => void>();
@@ -155,8 +169,12 @@ export async function startSoakDaemon(options: SoakDaemonOptions): Promise<SoakD
       if (line === '') continue;
       try {
         const parsed = JSON.parse(line) as DaemonLogLine;
-        if (typeof parsed.msg === 'string') logs.push(parsed);
-        else otherOutput.push(line);
+        if (typeof parsed.msg === 'string') {
+          logs.push(parsed);
+          countWarning(parsed);
+        } else {
+          otherOutput.push(line);
+        }
       } catch {
         otherOutput.push(line);
       }
@@ -226,6 +244,7 @@ export async function startSoakDaemon(options: SoakDaemonOptions): Promise<SoakD
     configPath,
     logs,
     otherOutput,
+    warningCounts,
     get running() {
       return running;
     },

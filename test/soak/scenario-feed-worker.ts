@@ -38,14 +38,16 @@ export interface FeedStart {
 }
 
 /**
- * One tick's kept messages as encoded MQTT 5 QoS 0 PUBLISH packets, and `entity|t_ms` keys of
- * every LATENCY_SAMPLE-th one, for matching their estimates to the publish time.
+ * One tick's kept messages as encoded MQTT 5 QoS 1 PUBLISH packets (packet ids left for the
+ * publisher to fill in at `idOffsets`), and `entity|t_ms` keys of every LATENCY_SAMPLE-th one,
+ * for matching their estimates to the publish time.
  */
 export interface FeedBatch {
   readonly type: 'batch';
   /** Epoch seconds at which these messages are due. */
   readonly dueS: number;
   readonly packets: Uint8Array;
+  readonly idOffsets: Int32Array;
   readonly count: number;
   readonly keys: string[];
   /** Measurement messages the scenario produced before thinning. */
@@ -124,10 +126,15 @@ function generateTick(): void {
   }
   // A fresh ArrayBuffer (not Node's shared pool), so it can be transferred without a copy.
   const packets = Buffer.from(new ArrayBuffer(bytes));
+  const idOffsets = new Int32Array(topics.length);
   let at = 0;
-  for (let i = 0; i < topics.length; i++) at = encodePublishInto(packets, at, topics[i]!, payloads[i]!);
-  const batch: FeedBatch = { type: 'batch', dueS, packets, count: topics.length, keys, produced };
-  port!.postMessage(batch, [packets.buffer as ArrayBuffer]);
+  for (let i = 0; i < topics.length; i++) {
+    const idAt = encodePublishInto(packets, at, topics[i]!, payloads[i]!);
+    idOffsets[i] = idAt;
+    at = idAt + 3 + payloads[i]!.length;
+  }
+  const batch: FeedBatch = { type: 'batch', dueS, packets, idOffsets, count: topics.length, keys, produced };
+  port!.postMessage(batch, [packets.buffer as ArrayBuffer, idOffsets.buffer]);
 }
 
 function loop(): void {

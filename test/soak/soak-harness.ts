@@ -66,7 +66,7 @@ export interface SoakResult {
   readonly daemonWarnings: Readonly<Record<string, number>>;
   /**
    * Mosquitto's $SYS totals at the end (PUBLISH packets received from all clients, and dropped)
-   * and the daemon's health messages the soak's subscriber saw.
+   * and the daemon's health messages the soak's subscriber had seen when that report came.
    */
   readonly broker: { readonly publishesReceived: number; readonly publishesDropped: number; readonly healthMessages: number };
 }
@@ -132,11 +132,14 @@ export async function runSoak(options: SoakOptions): Promise<SoakResult> {
     subscriber = await connectRawClient(broker.url, { protocolVersion: 5 });
     await subscriber.subscribeAsync('statecast/yard/+/estimate', { qos: 0 });
     // Mosquitto's own counters (every 10 s), to tell where undelivered estimates went.
-    const brokerStats = { received: Number.NaN, dropped: Number.NaN, updates: 0, healthMessages: 0 };
+    const brokerStats = { received: Number.NaN, dropped: Number.NaN, updates: 0, healthMessages: 0, healthAtReport: 0 };
     subscriber.on('message', (topic, payload) => {
       // Health messages share the broker's PUBLISH total with the estimates; count them apart.
       if (topic.endsWith('/health') || topic.endsWith('/health-events')) brokerStats.healthMessages += 1;
-      else if (topic === SYS_RECEIVED) brokerStats.received = Number(payload.toString());
+      else if (topic === SYS_RECEIVED) {
+        brokerStats.received = Number(payload.toString());
+        brokerStats.healthAtReport = brokerStats.healthMessages;
+      }
       else if (topic === SYS_DROPPED) brokerStats.dropped = Number(payload.toString());
       else return;
       brokerStats.updates += 1;
@@ -193,7 +196,11 @@ export async function runSoak(options: SoakOptions): Promise<SoakResult> {
     const drainStarted = Date.now();
     await untilSettled(async () => traffic.counts().published + traffic.counts().failed, generator.kept, 250, 40);
     const published = traffic.counts().published;
-    await untilSettled(async () => (await probeMetrics(d.httpUrl, 'yard')).received, published, 3000, 5);
+    // Repeats after a reconnect are refused as duplicates: count distinct readings.
+    await untilSettled(async () => {
+      const p = await probeMetrics(d.httpUrl, 'yard');
+      return p.received - (p.rejectedByReason['duplicate'] ?? 0);
+    }, published, 3000, 5);
     let probe = await probeMetrics(d.httpUrl, 'yard');
     await untilSettled(async () => traffic.counts().estimatesReceived, probe.accepted, 250, 40);
     probe = await probeMetrics(d.httpUrl, 'yard');
@@ -202,13 +209,7 @@ export async function runSoak(options: SoakOptions): Promise<SoakResult> {
     await untilSettled(async () => brokerStats.updates - updates, 2, 500, 30);
     const drainS = (Date.now() - drainStarted) / 1000;
     const brokerDropLines = (await broker.log()).split('\n').filter((l) => /drop|disconnect|timeout|closed/i.test(l)).slice(0, 10);
-    const daemonWarnings: Record<string, number> = {};
-    for (const line of d.logs) {
-      if (line.level < 40) continue;
-      const err = line['err'] === undefined ? '' : ` (${typeof line['err'] === 'string' ? line['err'] : JSON.stringify(line['err']).slice(0, 120)})`;
-      const detail = `${err}${Array.isArray(line['reasons']) ? ` [${(line['reasons'] as string[]).join(', ')}]` : ''}${typeof line['reason'] === 'string' ? ` [${line['reason']}]` : ''}`;
-      daemonWarnings[line.msg + detail] = (daemonWarnings[line.msg + detail] ?? 0) + 1;
-    }
+    const daemonWarnings = Object.fromEntries(d.warningCounts);
 
     const h = traffic.latency;
     return {
@@ -226,7 +227,7 @@ export async function runSoak(options: SoakOptions): Promise<SoakResult> {
       daemonCpuS,
       brokerDropLines,
       daemonWarnings,
-      broker: { publishesReceived: brokerStats.received, publishesDropped: brokerStats.dropped, healthMessages: brokerStats.healthMessages },
+      broker: { publishesReceived: brokerStats.received, publishesDropped: brokerStats.dropped, healthMessages: brokerStats.healthAtReport },
     };
   } finally {
     await worker?.terminate().catch(() => undefined);

@@ -9,8 +9,16 @@ export const WARM_UP_SHARE = 1 / 3;
 
 /** The verdicts beside the targets. */
 export interface SoakVerdicts {
-  /** Measurements published but never counted by the daemon (accepted or rejected). */
+  /**
+   * Measurements published (acknowledged by the broker) but never counted by the daemon:
+   * published − (received − duplicates), floored at 0. A reconnect makes the broker deliver
+   * unacknowledged messages again; the daemon refuses a repeat of an applied reading as a
+   * duplicate, while a repeat of a refused one is refused again and counted twice, so the sum
+   * can exceed the published count but never hides a gap larger than those repeats.
+   */
   readonly lostBeforeDaemon: number;
+  /** Readings the broker delivered more than once (refused by the daemon as duplicates). */
+  readonly redelivered: number;
   /** Accepted measurements for which the daemon produced no estimate (every-update mode: should be 0). */
   readonly estimatesNotProduced: number;
   /**
@@ -35,7 +43,8 @@ export interface SoakVerdicts {
 
 /** Computes the verdicts from a result. */
 export function soakVerdicts(r: SoakResult): SoakVerdicts {
-  const lostBeforeDaemon = r.traffic.published - (r.daemon.accepted + r.daemon.rejected);
+  const redelivered = r.daemon.rejectedByReason['duplicate'] ?? 0;
+  const lostBeforeDaemon = Math.max(0, r.traffic.published - (r.daemon.received - redelivered));
   const estimatesNotProduced = r.daemon.accepted - r.daemon.estimatesPublished;
   const estimatesMissing = r.daemon.estimatesPublished - r.traffic.estimatesReceived;
   const afterWarmUp = r.samples.filter((s) => s.atS >= r.loadS * WARM_UP_SHARE && Number.isFinite(s.rssMiB));
@@ -45,6 +54,7 @@ export function soakVerdicts(r: SoakResult): SoakVerdicts {
   const lagged = afterWarmUp.length > 0 ? afterWarmUp : r.samples;
   return {
     lostBeforeDaemon,
+    redelivered,
     estimatesNotProduced,
     estimatesMissing,
     estimatesAtBroker: r.broker.publishesReceived - r.traffic.published - r.broker.healthMessages - 1,
@@ -71,17 +81,20 @@ export function formatSoakReport(r: SoakResult): string {
     `  load average before ${r.loadBefore.map((x) => x.toFixed(2)).join(' ')}, after ${r.loadAfter.map((x) => x.toFixed(2)).join(' ')}`,
     `  generator: ${r.generator.produced} measurements produced, ${r.generator.kept} kept; ${r.generator.secondsPerScenarioSecond.toFixed(2)} s to generate a scenario second, ` +
       `${f0(r.generator.prefillS)} s generated ahead; ${r.generator.lateTicks} of ${r.generator.ticks} ticks released > 100 ms late (worst ${f0(r.generator.maxTickLateMs)} ms)`,
-    `  throughput: ${r.traffic.published} published (${f0(rate)}/s), ${r.traffic.estimatesReceived} estimates received; drained in ${f1(r.drainS)} s`,
+    `  throughput: ${r.traffic.published} published at QoS 1 and acknowledged (${f0(rate)}/s), ${r.traffic.estimatesReceived} estimates received; drained in ${f1(r.drainS)} s`,
     `  daemon CPU: ${f1(r.daemonCpuS)} s over the load (${f0((r.daemonCpuS / r.loadS) * 100)} % of a core), ${f1((r.daemonCpuS * 1e6) / Math.max(1, r.daemon.received))} µs per measurement` +
       '',
     `  daemon warnings: ${Object.entries(r.daemonWarnings).map(([m, n]) => `${n}× ${m}`).join('; ') || 'none'}`,
     ...r.brokerDropLines.map((l) => `  mosquitto: ${l}`),
     `  daemon counters: ${r.daemon.received} received = ${r.daemon.accepted} accepted + ${r.daemon.rejected} rejected (${reasons}); ${r.daemon.estimatesPublished} estimates published`,
-    `  loss: ${v.lostBeforeDaemon} published but not counted by the daemon, ${v.estimatesNotProduced} accepted without an estimate produced` +
+    `  loss: ${v.lostBeforeDaemon} published but not counted by the daemon (${v.redelivered} delivered twice after reconnects and refused as duplicates), ` +
+      `${v.estimatesNotProduced} accepted without an estimate produced` +
       `   [target: no loss of accepted measurements — ${mark(v.noLoss)}]`,
-    `  estimate delivery: ${v.estimatesMissing} of ${r.daemon.estimatesPublished} produced estimates did not reach the subscriber; ` +
-      `the broker received ${f0(v.estimatesAtBroker)} of them (so ${f0(r.daemon.estimatesPublished - v.estimatesAtBroker)} were shed inside the daemon) ` +
-      `and dropped ${f0(r.broker.publishesDropped)} messages`,
+    v.estimatesMissing === 0
+      ? `  estimate delivery: every produced estimate reached the subscriber`
+      : `  estimate delivery: ${v.estimatesMissing} of ${r.daemon.estimatesPublished} produced estimates did not reach the subscriber; ` +
+        `the broker received about ${f0(v.estimatesAtBroker)} of them (so about ${f0(r.daemon.estimatesPublished - v.estimatesAtBroker)} were shed ` +
+        `inside the daemon, which no metric counts) and dropped ${f0(r.broker.publishesDropped)} messages`,
     `  publish→estimate latency (${r.latencyMs.count} matched): p50 ${f1(r.latencyMs.p50)} ms, p90 ${f1(r.latencyMs.p90)} ms, p99 ${f1(r.latencyMs.p99)} ms, max ${f1(r.latencyMs.max)} ms`,
     `  /metrics scrape (every ${o.scrapeEveryS} s): up to ${f0(Math.max(...r.samples.map((x) => x.scrapeMs).filter(Number.isFinite)))} ms for ${f1(Math.max(...r.samples.map((x) => x.scrapeMiB).filter(Number.isFinite)))} MiB`,
     `  event-loop lag: worst interval p99 after warm-up ${f1(v.lagP99WorstMs)} ms, max ${f1(v.lagMaxMs)} ms   [target: p99 < 50 ms — ${mark(v.lagP99WorstMs < 50)}]`,

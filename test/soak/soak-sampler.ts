@@ -3,9 +3,9 @@
  * rates; at the scrape interval also its /metrics (event-loop lag since the previous scrape).
  * Scrapes are kept apart because with 10,000 tracks one costs the daemon seconds of work (the
  * per-entity gauges), and the soak should load the daemon like a Prometheus server would, not
- * more.
+ * more; they run in the background, so a slow scrape never delays the 5 s RSS rows.
  */
-import { probeMetrics, processFigures } from './daemon-probe.js';
+import { probeMetrics, processFigures, type MetricsProbe } from './daemon-probe.js';
 import type { SoakTraffic } from './soak-traffic.js';
 
 /** One row of the time series; lag and scrape figures are NaN on rows without a scrape. */
@@ -30,6 +30,8 @@ export class SoakSampler {
   private last: { atMs: number; published: number; estimates: number; cpuS: number };
   private lastScrapeMs: number;
   private readonly startCpuS: number;
+  private scraping: Promise<void> | null = null;
+  private scraped: MetricsProbe | null = null;
 
   private constructor(
     private readonly pid: number,
@@ -54,11 +56,25 @@ export class SoakSampler {
     return (await processFigures(this.pid)).cpuS - this.startCpuS;
   }
 
-  /** Takes one row (with a scrape when one is due or `scrape` says so) and returns it. */
+  /**
+   * Takes one row and returns it. A scrape starts in the background when one is due (or
+   * `scrape` says so and none is running); a row carries the figures of a scrape that finished
+   * since the previous row. With `scrape`, the row waits for that scrape (the last row).
+   */
   async sample(scrape = false): Promise<SoakSample> {
-    const due = scrape || Date.now() - this.lastScrapeMs >= this.scrapeEveryMs - 500;
-    const probe = due ? await probeMetrics(this.httpUrl, 'yard') : null;
-    if (due) this.lastScrapeMs = Date.now();
+    const due = Date.now() - this.lastScrapeMs >= this.scrapeEveryMs - 500;
+    if ((due || scrape) && this.scraping === null) {
+      this.lastScrapeMs = Date.now();
+      this.scraping = probeMetrics(this.httpUrl, 'yard').then(
+        (p) => void (this.scraped = p),
+        () => undefined,
+      ).finally(() => {
+        this.scraping = null;
+      });
+    }
+    if (scrape && this.scraping !== null) await this.scraping;
+    const probe = this.scraped;
+    this.scraped = null;
     const figures = await processFigures(this.pid);
     const now = Date.now();
     const c = this.traffic.counts();

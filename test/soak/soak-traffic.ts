@@ -1,7 +1,7 @@
 /**
- * The soak's traffic on the main thread: writes each generator tick (pre-encoded QoS 0
- * packets) when it is due, holding ticks back while the socket has megabytes unsent (flow
- * control by the drain event), and matches estimates that come back to the publish time of a
+ * The soak's traffic on the main thread: writes each generator tick (pre-encoded QoS 1
+ * packets) when it is due, holding ticks back while too many messages are unacknowledged or the
+ * socket has megabytes unsent, and matches estimates that come back to the publish time of a
  * sample of the measurements for the publish→estimate latency.
  */
 import type { MqttClient } from 'mqtt';
@@ -11,6 +11,8 @@ import type { FeedBatch } from './scenario-feed-worker.js';
 
 /** Unsent bytes on the publisher's socket above which ticks wait for it to drain. */
 const MAX_UNSENT_BYTES = 4 * 1024 * 1024;
+/** Most unacknowledged QoS 1 messages (well under the 65,535 packet ids and the broker's receive maximum). */
+const MAX_IN_FLIGHT = 8192;
 /** A sampled publish with no estimate after this long was refused by the filter (or lost). */
 const MATCH_WINDOW_MS = 30_000;
 const ESTIMATE_PREFIX = 'statecast/yard/';
@@ -18,11 +20,11 @@ const ESTIMATE_SUFFIX = '/estimate';
 
 /** Running figures of the traffic. */
 export interface TrafficCounts {
-  /** Measurements whose write completed. */
+  /** Measurements the broker acknowledged. */
   readonly published: number;
   /** Measurements whose write failed. */
   readonly failed: number;
-  /** Measurements due but not yet written (held by flow control). */
+  /** Measurements due and not yet acknowledged (held by flow control, or in flight). */
   readonly queued: number;
   readonly estimatesReceived: number;
   /** Ticks released for publishing; those more than 100 ms after their due time; the worst (ms). */
@@ -37,7 +39,6 @@ export class SoakTraffic {
   private readonly notDue: FeedBatch[] = [];
   private readonly ready: FeedBatch[] = [];
   private queued = 0;
-  private published = 0;
   private failed = 0;
   private estimatesReceived = 0;
   private ticksReleased = 0;
@@ -50,6 +51,7 @@ export class SoakTraffic {
   /** Publishes with `publisher`; estimates arrive on `subscriber` (subscribed by the caller). */
   constructor(private readonly publisher: RawMqttPublisher, subscriber: MqttClient) {
     subscriber.on('message', (topic, payload) => this.onEstimate(topic, payload));
+    publisher.onAcknowledged(() => this.pump());
   }
 
   /** Holds a generator tick until it is due (see release). */
@@ -74,7 +76,8 @@ export class SoakTraffic {
 
   counts(): TrafficCounts {
     return {
-      published: this.published, failed: this.failed, queued: this.queued, estimatesReceived: this.estimatesReceived,
+      published: this.publisher.acknowledged, failed: this.failed, queued: this.queued - this.publisher.acknowledged - this.failed,
+      estimatesReceived: this.estimatesReceived,
       ticksReleased: this.ticksReleased, lateTicks: this.lateTicks, maxTickLateMs: this.maxTickLateMs,
     };
   }
@@ -90,6 +93,8 @@ export class SoakTraffic {
 
   private pump(): void {
     while (this.ready.length > 0) {
+      const next = this.ready[0]!;
+      if (this.publisher.inFlight > 0 && this.publisher.inFlight + next.count > MAX_IN_FLIGHT) return; // resumed by the next PUBACKs
       if (!this.publisher.hasRoom(MAX_UNSENT_BYTES)) {
         if (!this.waitingForDrain) {
           this.waitingForDrain = true;
@@ -107,10 +112,8 @@ export class SoakTraffic {
         if (known === undefined) this.pending.set(key, { ms: now, n: 1 });
         else known.n += 1;
       }
-      this.publisher.write(batch.packets, (err) => {
-        this.queued -= batch.count;
+      this.publisher.writeWithIds(Buffer.from(batch.packets.buffer, batch.packets.byteOffset, batch.packets.byteLength), batch.idOffsets, (err) => {
         if (err) this.failed += batch.count;
-        else this.published += batch.count;
       });
     }
   }
