@@ -10,6 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parse as parseYaml, parseAllDocuments } from 'yaml';
 import { partitionOfTokens } from '../../src/adapters/nats/fnv1a-partition.js';
 import { natsMappingsBlock, sensorPatternsOf } from '../../src/adapters/nats/nats-server-config.js';
+import { partitionStreamConfig } from '../../src/adapters/nats/jetstream-provisioning.js';
 import { parseConfig } from '../../src/config/load-config.js';
 import { startNatsServerWith, type NatsTestServer } from './nats-test-server.js';
 import { devicePublisher, provision, readStream, scaleConfig, lastSeq, testClient, tugName, until, yardTraffic, type NatsConnection } from './scale-fixtures.js';
@@ -62,6 +63,10 @@ describe('the scale-out deployment files', () => {
   it('ship the same server configuration in the NATS ConfigMap', () => {
     const embedded = natsDocs.find((d) => d.kind === 'ConfigMap')!.data!['nats-server.conf']!;
     expect(meaningful(embedded)).toEqual(meaningful(natsConf));
+  });
+
+  it('describe the stream the daemon creates for that configuration', () => {
+    expect(JSON.parse(read('deploy/nats/partition-stream.json'))).toEqual(partitionStreamConfig(daemonConfig.scaleOut!));
   });
 
   it('run as many StatefulSet replicas as scaleOut.replicas says', () => {

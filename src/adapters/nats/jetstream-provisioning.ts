@@ -38,14 +38,22 @@ async function ensureStream(jsm: JetStreamManager, c: DeepReadonly<ScaleOutConfi
     if (!isNotFound(err)) throw err;
   }
   if (!c.provision) throw new ScaleOutSetupError(`stream ${c.stream} does not exist and scaleOut.provision is false`);
-  await jsm.streams.add({
+  await jsm.streams.add(partitionStreamConfig(c));
+}
+
+/** The partition stream the daemon creates: `<prefix>.>`, file storage, max age = the replay window. */
+export function partitionStreamConfig(c: DeepReadonly<ScaleOutConfig>): {
+  name: string; subjects: string[]; retention: RetentionPolicy; storage: StorageType; discard: DiscardPolicy; max_age: number; num_replicas: number;
+} {
+  return {
     name: c.stream,
-    subjects: [subject],
+    subjects: [`${c.subjectPrefix}.>`],
     retention: RetentionPolicy.Limits,
     storage: StorageType.File,
     discard: DiscardPolicy.Old,
     max_age: Math.round(c.replayWindowS * 1e9),
-  });
+    num_replicas: 1,
+  };
 }
 
 /** Opens or creates the stream, bucket and store of the config. */
