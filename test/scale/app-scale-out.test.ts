@@ -30,7 +30,7 @@ beforeAll(async () => {
     broker: { url: server.mqttUrl, protocolVersion: 4, clientId: 'statecast-scale-app' },
     http: { port: 0 },
     checkpoint: { enabled: true, directory: '/nonexistent/statecast-must-not-write-here' },
-    scaleOut: { servers: [server.url], partitions: PARTITIONS, replicas: 1, ordinal: 0, readyPendingBelow: 1, snapshotIntervalS: 0.5, leaseMs: 1000, renewMs: 200 },
+    scaleOut: { servers: [server.url], partitions: PARTITIONS, replicas: 1, ordinal: 0, readyPendingBelow: 1, snapshotIntervalS: 0.5, leaseMs: 3000, renewMs: 300 },
     estimators: [yardEstimatorInput()],
   }, {});
   if (!parsed.ok) throw new Error(JSON.stringify(parsed.issues));

@@ -24,7 +24,7 @@ let restarted: ChildReplica;
 let stored: StoredMessage[];
 let roundsDuringOutage = 0;
 
-const scaleOut = (ordinal: number) => ({ replicas: 2, ordinal, snapshotIntervalS: 0.2, leaseMs: 1000, renewMs: 200 });
+const scaleOut = (ordinal: number) => ({ replicas: 2, ordinal, snapshotIntervalS: 0.2, leaseMs: 3000, renewMs: 300 });
 
 beforeAll(async () => {
   server = await startNatsServer(testMappings());

@@ -35,7 +35,7 @@ export function tugName(i: number): string {
 export function scaleConfig(url: string, scaleOut: Partial<Record<keyof ScaleOutConfig, unknown>> = {}): DeepReadonly<Config> {
   const result = parseConfig({
     estimators: [yardEstimatorInput()],
-    scaleOut: { servers: [url], partitions: PARTITIONS, ordinal: 0, replicas: 1, readyPendingBelow: 1, leaseMs: 1000, renewMs: 200, snapshotIntervalS: 0.5, ...scaleOut },
+    scaleOut: { servers: [url], partitions: PARTITIONS, ordinal: 0, replicas: 1, readyPendingBelow: 1, leaseMs: 3000, renewMs: 300, snapshotIntervalS: 0.5, ...scaleOut },
   }, {});
   if (!result.ok) throw new Error(JSON.stringify(result.issues));
   return result.config;

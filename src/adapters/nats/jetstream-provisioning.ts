@@ -56,11 +56,14 @@ export function partitionStreamConfig(c: DeepReadonly<ScaleOutConfig>): {
   };
 }
 
-/** Opens or creates the stream, bucket and store of the config. */
-export async function provisionJetStream(jsm: JetStreamManager, c: DeepReadonly<ScaleOutConfig>): Promise<JetStreamPieces> {
+/**
+ * Opens or creates the stream, bucket and store of the config; the owners bucket through
+ * `ownersJsm` (a connection of its own in the node), the rest through `jsm`.
+ */
+export async function provisionJetStream(jsm: JetStreamManager, c: DeepReadonly<ScaleOutConfig>, ownersJsm: JetStreamManager = jsm): Promise<JetStreamPieces> {
   await ensureStream(jsm, c);
   const js = jsm.jetstream();
-  const kvm = new Kvm(js);
+  const kvm = new Kvm(ownersJsm.jetstream());
   const objm = new Objm(js);
   try {
     const owners = c.provision ? await kvm.create(c.ownersBucket, { history: 1, storage: StorageType.File }) : await kvm.open(c.ownersBucket);

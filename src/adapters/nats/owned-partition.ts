@@ -7,7 +7,7 @@
 import type { OwnerRecord } from './owner-record.js';
 import type { PartitionContext } from './partition-context.js';
 import { PartitionIntake } from './partition-intake.js';
-import type { PartitionSnapshot } from './partition-snapshots.js';
+import { PartitionSnapshotStore, type PartitionSnapshot } from './partition-snapshots.js';
 import { adoptCheckpoint, type TrackSet } from './partition-tracks.js';
 
 /** Where a partition is in its life (module comment). */
@@ -22,8 +22,8 @@ export class OwnedPartition {
   private claim: { record: OwnerRecord; revision: number } | null = null;
   private writes: Promise<void> = Promise.resolve();
   private lastRenewedMs = 0;
-  /** Snapshot objects written whose commit is not confirmed (see commitSnapshot). */
-  private uncertain: string[] = [];
+  /** A snapshot commit got no clear answer: the record may point at either slot. */
+  private commitUnclear = false;
 
   constructor(readonly partition: number, private readonly ctx: PartitionContext) {
     this.intake = new PartitionIntake(partition, ctx, (reason) => {
@@ -155,8 +155,10 @@ export class OwnedPartition {
     this.ctx.log.warn({ partition: this.partition, epoch, reason }, 'PARTITION LOST: stopped consuming it and writing its snapshots');
     this.ctx.changed();
     await stopped;
-    await this.ctx.ownership.acknowledgeHandover(this.partition, epoch);
-    await this.discardUnreferenced();
+    // Acknowledge only after any snapshot write in flight has finished (queued behind it, not
+    // awaited: lose() may run inside that very write), so the claimant never writes a slot
+    // while this replica still does.
+    void this.serial(() => this.ctx.ownership.acknowledgeHandover(this.partition, epoch));
   }
 
   /**
@@ -170,9 +172,9 @@ export class OwnedPartition {
   }
 
   /**
-   * Writes `snapshot` and commits it by the guarded write; `final` also marks the record
-   * released. An object whose commit had no clear answer may be what the record points at, so
-   * it is removed only once a later commit, or the record after a loss, shows it is not.
+   * Writes `snapshot` into the slot the record does not point at and commits it by the guarded
+   * write; `final` also marks the record released. After a commit without a clear answer the
+   * record may point at either slot, so the next write first reads which one it is.
    */
   commitSnapshot(snapshot: PartitionSnapshot | null, final: boolean): Promise<void> {
     return this.serial(async () => {
@@ -181,40 +183,31 @@ export class OwnedPartition {
       if (claim === null || (snapshot === null && !final) || (this.phase !== 'consuming' && this.phase !== 'suspended')) return;
       let pointer = claim.record.snapshot;
       if (snapshot !== null) {
+        const committed = this.commitUnclear ? (await c.ownership.current(this.partition))?.snapshot : claim.record.snapshot;
+        if (committed === undefined) return; // no answer: do not risk writing over the committed slot
         try {
-          pointer = await c.snapshots.write(snapshot);
+          pointer = await c.snapshots.write(snapshot, PartitionSnapshotStore.otherSlot(committed?.object ?? null, this.partition));
         } catch (err) {
           c.log.error({ partition: this.partition, err }, 'PARTITION SNAPSHOT WRITE FAILED; the next one will try again');
           return;
         }
-        this.uncertain.push(pointer.object);
-        if ((this.phase as PartitionPhase) === 'lost') return this.discardUnreferenced();
+        if ((this.phase as PartitionPhase) === 'lost') return;
       }
       const record: OwnerRecord = { ...claim.record, snapshot: pointer, state: final ? 'released' : 'active' };
       const result = await c.ownership.write(this.partition, record, claim.revision);
       if (result.kind === 'lost') return this.lose(result.reason);
       if (result.kind === 'unavailable') {
+        this.commitUnclear = true;
         c.log.warn({ partition: this.partition, reason: result.reason }, 'partition snapshot not committed; the next one will try again');
         return;
       }
-      const garbage = [...this.uncertain, claim.record.snapshot?.object].filter((o): o is string => o !== undefined && o !== pointer?.object);
-      this.uncertain = [];
+      this.commitUnclear = false;
       this.claim = { record, revision: result.revision };
-      for (const object of garbage) void c.snapshots.remove(object);
       if (snapshot === null || pointer === null) return;
       this.snapshotSeq = snapshot.seq;
       c.counters.snapshots += 1;
       c.events.emit('snapshot:committed', { partition: this.partition, epoch: record.epoch, seq: snapshot.seq, object: pointer.object, final });
     });
-  }
-
-  /** After a loss: removes our uncommitted objects unless the new owner's record points at one. */
-  private async discardUnreferenced(): Promise<void> {
-    if (this.uncertain.length === 0) return;
-    const current = await this.ctx.ownership.current(this.partition);
-    if (current === null) return; // no answer: keep them rather than risk the committed one
-    for (const object of this.uncertain) if (current.snapshot?.object !== object) void this.ctx.snapshots.remove(object);
-    this.uncertain = [];
   }
 
   /** Stops taking messages (before the final snapshot). */

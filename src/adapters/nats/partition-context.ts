@@ -28,6 +28,8 @@ export interface ScaleOutCounters {
 /** What a partition shares with its node. */
 export interface PartitionContext {
   readonly config: DeepReadonly<ScaleOutConfig>;
+  /** Messages each partition's consumer asks for per pull. */
+  readonly batch: number;
   readonly js: JetStreamClient;
   readonly ownership: PartitionOwnership;
   readonly snapshots: PartitionSnapshotStore;

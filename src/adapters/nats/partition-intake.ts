@@ -36,7 +36,7 @@ export class PartitionIntake {
     const c = this.ctx;
     this.seq = fromSeq - 1;
     const consumer = new PartitionConsumer({
-      js: c.js, stream: c.config.stream, filter: c.router.filterOf(this.partition), fromSeq, onMessage: (msg) => this.onMessage(msg),
+      js: c.js, stream: c.config.stream, filter: c.router.filterOf(this.partition), fromSeq, batch: c.batch, onMessage: (msg) => this.onMessage(msg),
     });
     this.consumer = consumer;
     this.restartPending = false;

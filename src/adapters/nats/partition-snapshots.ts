@@ -1,8 +1,11 @@
 /**
  * Per-partition snapshots in a JetStream object store: the checkpoint document of the tracks of
- * one partition (checkpoint-document.ts) plus the stream sequence it covers. An object is only
- * a candidate until the owner record points at it (partition-ownership.ts commits the pointer
- * with a compare-and-swap); objects no record points at are deleted by their writer.
+ * one partition (checkpoint-document.ts) plus the stream sequence it covers. Each partition has
+ * two slots, `partition-<p>-a` and `-b`; a snapshot is written into the slot the owner record
+ * does not point at and becomes the partition's snapshot only when the record's pointer is
+ * moved to it by a compare-and-swap (owned-partition.ts). So the committed object is never
+ * overwritten while a claimant may read it, and the store holds at most two objects per
+ * partition (unique names would leave a delete marker per write in the store for ever).
  */
 import type { ObjectStore } from '@nats-io/obj';
 import type { Track } from '../../estimation/track.js';
@@ -37,15 +40,14 @@ export class PartitionSnapshotStore {
   /** `fingerprint`: the structural configuration fingerprint a snapshot must carry to be restored. */
   constructor(private readonly store: ObjectStore, private readonly fingerprint: string) {}
 
-  private writes = 0;
+  /** The object name of a partition's slot. */
+  static objectName(partition: number, slot: 'a' | 'b'): string {
+    return `partition-${partition}-${slot}`;
+  }
 
-  /**
-   * The object name of a snapshot: partition, epoch, sequence and a write number, so no name is
-   * ever written twice. (Writing a name again purges the old chunks, and a claimant reading
-   * them at that moment would wait for chunks that are gone.)
-   */
-  static objectName(partition: number, epoch: number, seq: number, write: number): string {
-    return `partition-${partition}-e${epoch}-s${seq}-w${write}`;
+  /** The slot to write next: the one `committed` (an object name, or null) is not. */
+  static otherSlot(committed: string | null, partition: number): 'a' | 'b' {
+    return committed === PartitionSnapshotStore.objectName(partition, 'a') ? 'b' : 'a';
   }
 
   /**
@@ -56,11 +58,13 @@ export class PartitionSnapshotStore {
     return { format: PARTITION_SNAPSHOT_FORMAT, version: 1, partition, epoch, seq, checkpoint: checkpointDocument(tracks, this.fingerprint) };
   }
 
-  /** Stores a built snapshot; returns the pointer to commit in the owner record. */
-  async write(snapshot: PartitionSnapshot): Promise<SnapshotPointer> {
-    this.writes += 1;
-    const object = PartitionSnapshotStore.objectName(snapshot.partition, snapshot.epoch, snapshot.seq, this.writes);
-    await this.store.putBlob({ name: object }, encoder.encode(JSON.stringify(snapshot)));
+  /**
+   * Stores a built snapshot in `slot`; returns the pointer to commit in the owner record. The
+   * description names the writer's epoch and sequence, for operators reading the store.
+   */
+  async write(snapshot: PartitionSnapshot, slot: 'a' | 'b'): Promise<SnapshotPointer> {
+    const object = PartitionSnapshotStore.objectName(snapshot.partition, slot);
+    await this.store.putBlob({ name: object, description: `epoch ${snapshot.epoch} seq ${snapshot.seq}` }, encoder.encode(JSON.stringify(snapshot)));
     return { object, seq: snapshot.seq };
   }
 
@@ -125,10 +129,5 @@ export class PartitionSnapshotStore {
     let offset = 0;
     for (const c of chunks) out.set(c, (offset += c.length) - c.length);
     return out;
-  }
-
-  /** Deletes an object (a superseded or uncommitted snapshot). Never throws. */
-  async remove(object: string): Promise<void> {
-    await this.store.delete(object).catch(() => undefined);
   }
 }

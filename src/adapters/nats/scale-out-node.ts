@@ -64,6 +64,7 @@ export interface ScaleOutStats {
 }
 
 const POLL_MS = 200;
+const MESSAGES_IN_FLIGHT = 1024;
 
 /** See the module comment. */
 export class ScaleOutNode {
@@ -71,11 +72,11 @@ export class ScaleOutNode {
   readonly identity: ReplicaIdentity;
   private readonly counters: ScaleOutCounters = { drift: 0, unrouted: 0, snapshots: 0 };
   private readonly now: () => number;
-  private nc: NatsConnection | null = null;
+  private readonly connections: NatsConnection[] = [];
+  private readonly down = new Set<'data' | 'control'>();
   private parts: OwnedPartition[] = [];
   private timers: NodeJS.Timeout[] = [];
   private stopWatch: (() => void) | null = null;
-  private connected = false;
   private started: Promise<void> | null = null;
   private stopped: Promise<void> | null = null;
   private lastReady = false;
@@ -95,17 +96,27 @@ export class ScaleOutNode {
   private async run(): Promise<void> {
     const o = this.options;
     const c = o.config;
-    const nc = await connect({ servers: [...c.servers], name: this.identity.replica, maxReconnectAttempts: -1, reconnectTimeWait: 250 });
-    this.nc = nc;
-    this.connected = true;
-    void this.watchConnection(nc);
+    // Two connections: the partitions' messages on one, ownership (renewals, claims, the watch)
+    // on the other, so a renewal's reply never queues behind thousands of messages on one socket.
+    const options = { servers: [...c.servers], maxReconnectAttempts: -1, reconnectTimeWait: 250 };
+    const data = await connect({ ...options, name: `${this.identity.replica}-data` });
+    this.connections.push(data);
+    const control = await connect({ ...options, name: `${this.identity.replica}-control` });
+    this.connections.push(control);
+    void this.watchConnection(data, 'data');
+    void this.watchConnection(control, 'control');
     // JetStream requests time out after half a lease (1-5 s), not the client's 5 s: a renewal
     // sent while the server is still recovering must fail and be retried before the lease runs out.
-    const jsm = await jetstreamManager(nc, { timeout: Math.min(5000, Math.max(1000, Math.round(c.leaseMs / 2))) });
-    const pieces = await provisionJetStream(jsm, c);
+    const timeout = Math.min(5000, Math.max(1000, Math.round(c.leaseMs / 2)));
+    const jsm = await jetstreamManager(data, { timeout });
+    const pieces = await provisionJetStream(jsm, c, await jetstreamManager(control, { timeout }));
     const ownership = new PartitionOwnership(pieces.owners, this.identity, c.leaseMs);
+    const owned = ownedPartitions(c.partitions, this.identity);
     const ctx: PartitionContext = {
       config: c,
+      // About a thousand messages in flight per replica, however many partitions it owns: more
+      // only queue in the socket while the engine works through them.
+      batch: Math.max(16, Math.ceil(MESSAGES_IN_FLIGHT / owned.length)),
       js: jsm.jetstream(),
       ownership,
       snapshots: new PartitionSnapshotStore(pieces.snapshots, o.fingerprint),
@@ -119,7 +130,7 @@ export class ScaleOutNode {
       dropTracks: (p) => this.dropTracks(p),
       changed: () => this.checkReady(),
     };
-    this.parts = ownedPartitions(c.partitions, this.identity).map((p) => new OwnedPartition(p, ctx));
+    this.parts = owned.map((p) => new OwnedPartition(p, ctx));
     const byPartition = new Map(this.parts.map((p) => [p.partition, p]));
     this.stopWatch = ownership.watch((partition, record) => byPartition.get(partition)?.observed(record));
     this.timers.push(setInterval(() => { for (const p of this.parts) void p.renew(); }, c.renewMs));
@@ -131,14 +142,18 @@ export class ScaleOutNode {
     this.checkReady();
   }
 
-  private async watchConnection(nc: NatsConnection): Promise<void> {
+  private get connected(): boolean {
+    return this.connections.length === 2 && this.down.size === 0;
+  }
+
+  private async watchConnection(nc: NatsConnection, role: 'data' | 'control'): Promise<void> {
     for await (const s of nc.status()) {
       if (s.type === 'disconnect') {
-        this.connected = false;
+        this.down.add(role);
         for (const p of this.parts) p.disconnected();
         this.checkReady();
       } else if (s.type === 'reconnect') {
-        this.connected = true;
+        this.down.delete(role);
         // Prove ownership again (the server may have seen a claim meanwhile), then resume.
         for (const p of this.parts) void p.renew().then(() => p.reconnected());
       }
@@ -213,7 +228,7 @@ export class ScaleOutNode {
       await this.snapshotRound(true);
       for (const p of this.parts) p.markStopped();
       this.stopWatch?.();
-      await this.nc?.close().catch(() => undefined);
+      await Promise.all(this.connections.map((nc) => nc.close().catch(() => undefined)));
     })();
     return this.stopped;
   }
