@@ -57,6 +57,8 @@ export interface SoakResult {
     ticks: number; lateTicks: number; maxTickLateMs: number;
   };
   readonly daemonUp: boolean;
+  /** The daemon's last output when it did not stay up. */
+  readonly daemonTail: string;
   readonly drainS: number;
   /** CPU seconds the daemon used during the load phase. */
   readonly daemonCpuS: number;
@@ -188,7 +190,8 @@ export async function runSoak(options: SoakOptions): Promise<SoakResult> {
     traffic.release(Date.now());
     clearInterval(releaser);
     worker.postMessage('stop');
-    const loadS = (Date.now() - startedMs) / 1000;
+    // The load phase ends at endMs (or at an abort), not when the last, possibly slow, scrape returns.
+    const loadS = (Math.min(Date.now(), endMs) - startedMs) / 1000;
     const daemonCpuS = await sampler.cpuSinceStartS();
 
     // Drain: publish what is queued, then wait for the daemon to count every measurement and
@@ -196,14 +199,22 @@ export async function runSoak(options: SoakOptions): Promise<SoakResult> {
     const drainStarted = Date.now();
     await untilSettled(async () => traffic.counts().published + traffic.counts().failed, generator.kept, 250, 40);
     const published = traffic.counts().published;
-    // Repeats after a reconnect are refused as duplicates: count distinct readings.
+    // Repeats after a reconnect are refused as duplicates: count distinct readings. A scrape
+    // that fails (a daemon too busy to answer in time, or gone) counts as no progress.
+    let probe: MetricsProbe | null = null;
+    const scrape = async (): Promise<MetricsProbe | null> => {
+      if (!d.running) return probe;
+      probe = await probeMetrics(d.httpUrl, 'yard').catch(() => probe);
+      return probe;
+    };
     await untilSettled(async () => {
-      const p = await probeMetrics(d.httpUrl, 'yard');
-      return p.received - (p.rejectedByReason['duplicate'] ?? 0);
+      const p = await scrape();
+      return p === null ? 0 : p.received - (p.rejectedByReason['duplicate'] ?? 0);
     }, published, 3000, 5);
-    let probe = await probeMetrics(d.httpUrl, 'yard');
-    await untilSettled(async () => traffic.counts().estimatesReceived, probe.accepted, 250, 40);
-    probe = await probeMetrics(d.httpUrl, 'yard');
+    await untilSettled(async () => traffic.counts().estimatesReceived, (await scrape())?.accepted ?? 0, 250, 40);
+    await scrape();
+    if (probe === null) throw new Error(`no /metrics scrape succeeded after the load; the daemon ${d.running ? 'did not answer' : 'exited'}\n${d.tail()}`);
+    const finalProbe: MetricsProbe = probe;
     // One more report of the broker's counters, taken after everything above settled.
     const updates = brokerStats.updates;
     await untilSettled(async () => brokerStats.updates - updates, 2, 500, 30);
@@ -218,11 +229,12 @@ export async function runSoak(options: SoakOptions): Promise<SoakResult> {
         checkpoints: options.checkpoints, sampleEveryS: options.sampleEveryS, scrapeEveryS: options.scrapeEveryS,
       },
       loadBefore, loadAfter: loadavg(), loadS,
-      traffic: traffic.counts(), daemon: probe,
+      traffic: traffic.counts(), daemon: finalProbe,
       latencyMs: { count: h.count, p50: h.percentile(0.5), p90: h.percentile(0.9), p99: h.percentile(0.99), max: h.max },
       samples: sampler.rows,
       generator: { ...generator, ticks: traffic.counts().ticksReleased, lateTicks: traffic.counts().lateTicks, maxTickLateMs: traffic.counts().maxTickLateMs },
       daemonUp: d.running,
+      daemonTail: d.running ? '' : d.tail(40),
       drainS,
       daemonCpuS,
       brokerDropLines,

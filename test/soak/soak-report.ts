@@ -99,7 +99,7 @@ export function formatSoakReport(r: SoakResult): string {
     `  /metrics scrape (every ${o.scrapeEveryS} s): up to ${f0(Math.max(...r.samples.map((x) => x.scrapeMs).filter(Number.isFinite)))} ms for ${f1(Math.max(...r.samples.map((x) => x.scrapeMiB).filter(Number.isFinite)))} MiB`,
     `  event-loop lag: worst interval p99 after warm-up ${f1(v.lagP99WorstMs)} ms, max ${f1(v.lagMaxMs)} ms   [target: p99 < 50 ms — ${mark(v.lagP99WorstMs < 50)}]`,
     `  RSS growth after warm-up (first third left out): ${f1(v.rssGrowthPct)} %   [target: < 10 % — ${mark(v.rssGrowthPct < 10)}]`,
-    `  daemon ${r.daemonUp ? 'stayed up' : 'DID NOT STAY UP'}`,
+    `  daemon ${r.daemonUp ? 'stayed up' : `DID NOT STAY UP:\n${r.daemonTail}`}`,
     '',
     '     t s   RSS MiB   CPU %   lag p50 ms   lag p99 ms   lag max ms   published/s   estimates/s   queued   scrape ms   scrape MiB',
     ...r.samples.map((s) => [
