@@ -27,7 +27,7 @@ async function cli(args: string[]): Promise<{ code: number; stdout: string; stde
 }
 
 describe('statecast CLI', () => {
-  it('accepts each shipped example config', async () => {
+  it('accepts each shipped example config', { timeout: 180_000 }, async () => {
     for (const file of ['minimal.yaml', 'tank-farm.yaml', 'vehicle-yard.yaml']) {
       const r = await cli(['check-config', join(import.meta.dirname, '../../config', file)]);
       expect(r.code, r.stderr).toBe(0);
@@ -35,7 +35,7 @@ describe('statecast CLI', () => {
     }
   });
 
-  it('lists every problem of a bad config by path and exits 2', async () => {
+  it('lists every problem of a bad config by path and exits 2', { timeout: 120_000 }, async () => {
     const file = join(dir, 'bad.yaml');
     writeFileSync(file, [
       'estimators:',
@@ -54,7 +54,7 @@ describe('statecast CLI', () => {
     expect(r.stderr).toContain('sigmma');
   });
 
-  it('prints a JSON Schema of the config', async () => {
+  it('prints a JSON Schema of the config', { timeout: 120_000 }, async () => {
     const r = await cli(['schema']);
     expect(r.code).toBe(0);
     const schema = JSON.parse(r.stdout) as Record<string, unknown>;
@@ -62,13 +62,13 @@ describe('statecast CLI', () => {
     expect(JSON.stringify(schema)).toContain('estimators');
   });
 
-  it('refuses an unknown command with a usage error', async () => {
+  it('refuses an unknown command with a usage error', { timeout: 120_000 }, async () => {
     const r = await cli(['frobnicate']);
     expect(r.code).toBe(2);
     expect(r.stderr).toContain('USAGE');
   });
 
-  it('names the embedded broker port when it is taken, and exits 1', async () => {
+  it('names the embedded broker port when it is taken, and exits 1', { timeout: 120_000 }, async () => {
     const blocker = createServer();
     await new Promise<void>((resolve) => blocker.listen(0, '127.0.0.1', resolve));
     const port = (blocker.address() as { port: number }).port;
