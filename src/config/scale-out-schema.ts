@@ -19,7 +19,8 @@ const jetStreamNameSchema = z.string().regex(/^[A-Za-z0-9_-]+$/, { error: 'expec
  *   subject mappings; changing it re-hashes every entity, so it is chosen once).
  * - `replicas` N and `ordinal` k: this replica owns the partitions p with p mod N = k. `ordinal:
  *   'hostname'` takes k from a host name ending in `-<k>` (a StatefulSet pod name).
- * - `replicaId`: names this process in ownership records; absent: `<hostname>-<pid>`.
+ * - `replicaId`: names this process in ownership records; absent: `<hostname>-<6 random hex>`,
+ *   new at every start.
  * - `subjectPrefix`: the first token the mappings prepend (`p` in `p.17.yard.tug-01.gnss`).
  * - `stream`, `ownersBucket`, `snapshotsBucket`: the JetStream stream, KV bucket (owner
  *   records) and object store (per-partition snapshots).

@@ -13,6 +13,8 @@ export interface ChildReplica {
   readonly proc: ChildProcess;
   readonly reports: ChildReport[];
   readonly handled: { partition: number; seq: number }[];
+  /** When (Date.now) the first report of each type arrived. */
+  readonly firstAtMs: Map<ChildReport['type'], number>;
   ready(): boolean;
   /** The yard tracks' states, asked for now. */
   states(): Promise<Map<string, { x: number[]; P: number[] }>>;
@@ -34,7 +36,9 @@ export function spawnReplica(options: ChildOptions): ChildReplica {
   const killOnExit = (): void => void proc.kill('SIGKILL');
   process.once('exit', killOnExit);
   void exit.then(() => process.removeListener('exit', killOnExit));
+  const firstAtMs = new Map<ChildReport['type'], number>();
   proc.on('message', (r: ChildReport) => {
+    if (!firstAtMs.has(r.type)) firstAtMs.set(r.type, Date.now());
     if (r.type === 'handled') handled.push({ partition: r.partition, seq: r.seq });
     else reports.push(r);
     if (r.type === 'ready') ready = r.ready;
@@ -51,6 +55,7 @@ export function spawnReplica(options: ChildOptions): ChildReplica {
     proc,
     reports,
     handled,
+    firstAtMs,
     ready: () => ready && !exited,
     async states() {
       return new Map((await ask('states')).states);

@@ -4,7 +4,7 @@
  * Always stop it (afterAll); a worker that dies kills it on exit.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { accessSync, constants } from 'node:fs';
+import { accessSync, constants, rmSync } from 'node:fs';
 import { mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { connect as tcpConnect } from 'node:net';
 import { tmpdir } from 'node:os';
@@ -74,7 +74,11 @@ export async function startNatsServerWith(
   let exited: Promise<void> = Promise.resolve();
   let output = '';
   let removed = false;
-  const killOnExit = (): void => void child?.kill('SIGKILL');
+  // If the test process ends without afterAll, take the server and its store with it.
+  const killOnExit = (): void => {
+    child?.kill('SIGKILL');
+    rmSync(dir, { recursive: true, force: true });
+  };
   process.once('exit', killOnExit);
 
   const start = async (): Promise<void> => {

@@ -28,7 +28,7 @@ export type ChildReport =
 
 const send = (r: ChildReport): void => void process.send?.(r);
 const options = JSON.parse(process.argv[2] ?? '{}') as ChildOptions;
-const replica = buildReplica(scaleConfig(options.url, options.scaleOut), 'statecast-child', process.pid);
+const replica = buildReplica(scaleConfig(options.url, options.scaleOut), 'statecast-child', String(process.pid));
 const node = replica.node;
 const figures = (): { partition: number; seq: number; phase: string }[] =>
   node.stats().partitions.map((p) => ({ partition: p.partition, seq: p.seq, phase: p.phase }));

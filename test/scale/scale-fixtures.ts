@@ -172,7 +172,7 @@ export interface TestReplica {
 }
 
 /** Builds (does not start) an in-process replica of `config`. */
-export function buildReplica(config: DeepReadonly<Config>, hostname = 'statecast-test', pid = 1): TestReplica {
+export function buildReplica(config: DeepReadonly<Config>, hostname = 'statecast-test', instance = '1'): TestReplica {
   const estimated = new Set<string>();
   const publisher: EstimatePublisher = { publish: (topic) => void estimated.add(topic.split('/')[2] ?? topic) };
   const events = new EngineEvents();
@@ -188,7 +188,7 @@ export function buildReplica(config: DeepReadonly<Config>, hostname = 'statecast
     fingerprint: structuralFingerprint(config),
     logger: pino({ level: process.env['SCALE_TEST_LOG'] ?? 'silent' }),
     hostname,
-    pid,
+    instance,
   });
   const handled: TestReplica['handled'] = [];
   node.events.on('message', (m) => void handled.push({ partition: m.partition, seq: m.seq }));

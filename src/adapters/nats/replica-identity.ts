@@ -19,10 +19,10 @@ export class ReplicaOrdinalError extends Error {
 
 /**
  * Resolves the identity from the config and the host name (a StatefulSet pod is named
- * `<set>-<k>`). `pid` makes the default replica id unique per process, so a second process on
- * the same host with the same ordinal is told apart from the first.
+ * `<set>-<k>`). `instance` (random per process by default) makes the default replica id unique
+ * per process, so a second process on the same host with the same ordinal is told apart.
  */
-export function resolveReplicaIdentity(config: DeepReadonly<ScaleOutConfig>, hostname: string, pid: number): ReplicaIdentity {
+export function resolveReplicaIdentity(config: DeepReadonly<ScaleOutConfig>, hostname: string, instance: string): ReplicaIdentity {
   let ordinal: number;
   if (config.ordinal === 'hostname') {
     const m = /-(\d+)$/.exec(hostname);
@@ -33,7 +33,7 @@ export function resolveReplicaIdentity(config: DeepReadonly<ScaleOutConfig>, hos
   }
   if (ordinal >= config.replicas) throw new ReplicaOrdinalError(`ordinal ${ordinal} is not below scaleOut.replicas (${config.replicas})`);
   const safeHost = hostname.replace(/[^A-Za-z0-9_-]/g, '-');
-  return { ordinal, replicas: config.replicas, replica: config.replicaId ?? `${safeHost}-${pid}` };
+  return { ordinal, replicas: config.replicas, replica: config.replicaId ?? `${safeHost}-${instance}` };
 }
 
 /** The partitions a replica owns: p mod N = k, ascending. */

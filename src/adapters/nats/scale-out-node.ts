@@ -4,6 +4,7 @@
  * does the per-partition work). Ready when connected and every owned partition has caught up;
  * `stop()` writes final snapshots and releases the partitions. start/stop are idempotent.
  */
+import { randomBytes } from 'node:crypto';
 import { hostname as osHostname } from 'node:os';
 import { jetstreamManager } from '@nats-io/jetstream';
 import { connect } from '@nats-io/transport-node';
@@ -39,7 +40,8 @@ export interface ScaleOutNodeOptions {
   readonly now?: () => number;
   /** Host name (for `ordinal: hostname` and the default replica id); os.hostname() by default. */
   readonly hostname?: string;
-  readonly pid?: number;
+  /** Tells this process apart in the default replica id; 6 random hex digits by default. */
+  readonly instance?: string;
 }
 
 /** One partition as the node reports it. */
@@ -84,7 +86,7 @@ export class ScaleOutNode {
 
   constructor(private readonly options: ScaleOutNodeOptions) {
     this.now = options.now ?? Date.now;
-    this.identity = resolveReplicaIdentity(options.config, options.hostname ?? osHostname(), options.pid ?? process.pid);
+    this.identity = resolveReplicaIdentity(options.config, options.hostname ?? osHostname(), options.instance ?? randomBytes(3).toString('hex'));
   }
 
   /** Connects, claims the owned partitions and starts consuming them (resolves once all consume). */
