@@ -1,6 +1,8 @@
 /**
  * Serves the dashboard's folder: `/` and any folder path give its index.html, files get a content
- * type from their extension, and nothing else is exposed. There is no directory listing, dot files
+ * type from their extension, and nothing else is exposed: only the web asset types listed in
+ * STATIC_CONTENT_TYPES are sent (the folder also holds TypeScript helpers and type declarations
+ * for the build, which are not for browsers). There is no directory listing, dot files
  * stay hidden, a `..` segment (plain or percent-encoded) is refused with 400 BAD_PATH, and a
  * symbolic link that points out of the folder is treated as absent.
  */
@@ -11,7 +13,7 @@ import { extname, join, resolve, sep } from 'node:path';
 import { READ_METHODS, type HttpRoute } from './http-route.js';
 import { sendError } from './http-responses.js';
 
-/** Content types by file extension; anything else is sent as application/octet-stream. */
+/** Content types by file extension; a file of any other type in the folder is not served. */
 export const STATIC_CONTENT_TYPES: Readonly<Record<string, string>> = {
   '.html': 'text/html; charset=utf-8',
   '.js': 'text/javascript; charset=utf-8',
@@ -116,6 +118,7 @@ async function locate(root: string, segments: readonly string[]): Promise<{ path
     // Resolve links on both sides, then insist the file lies inside the root.
     const [realRoot, realFile] = await Promise.all([realpath(root), realpath(candidate)]);
     if (!realFile.startsWith(realRoot.endsWith(sep) ? realRoot : realRoot + sep)) return null;
+    if (STATIC_CONTENT_TYPES[extname(realFile).toLowerCase()] === undefined) return null;
     const info = await stat(realFile);
     return info.isFile() ? { path: realFile, sizeBytes: info.size } : null;
   } catch {

@@ -17,6 +17,8 @@ beforeAll(() => {
   writeFileSync(join(staticDir, 'assets', 'app.js'), 'export const yard = "tug-01";');
   writeFileSync(join(staticDir, 'assets', 'style.css'), 'body { margin: 0 }');
   writeFileSync(join(staticDir, 'assets', 'blob.bin'), 'raw');
+  writeFileSync(join(staticDir, 'assets', 'helper.ts'), 'export const yard = "tug-01";');
+  writeFileSync(join(staticDir, 'assets', 'app.d.ts'), 'export declare const yard: string;');
   writeFileSync(join(staticDir, '.env'), SECRET);
   writeFileSync(join(dir, 'secret.txt'), SECRET);
   symlinkSync(join(dir, 'secret.txt'), join(staticDir, 'linked.txt'));
@@ -36,13 +38,18 @@ describe('static files', () => {
   it.each([
     ['/assets/app.js', 'text/javascript; charset=utf-8'],
     ['/assets/style.css', 'text/css; charset=utf-8'],
-    ['/assets/blob.bin', 'application/octet-stream'],
   ])('serves %s as %s', async (path, type) => {
     const { base } = await startAdmin({ staticDir });
     const res = await fetch(`${base}${path}`);
     await res.arrayBuffer();
     expect(res.status).toBe(200);
     expect(res.headers.get('content-type')).toBe(type);
+  });
+
+  it('serves no file of a type that is not a web asset (build helpers, type declarations, blobs)', async () => {
+    const { base } = await startAdmin({ staticDir });
+    const statuses = await Promise.all(['/assets/helper.ts', '/assets/app.d.ts', '/assets/blob.bin'].map((p) => rawRequest(base, p)));
+    expect(statuses.map((r) => r.status)).toEqual([404, 404, 404]);
   });
 
   it('lists no folder without an index.html', async () => {
