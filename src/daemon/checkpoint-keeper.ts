@@ -58,10 +58,8 @@ export class CheckpointKeeper {
     if (this.store === null) return 0;
     const loaded = await this.store.load();
     if (loaded.kind === 'none') return 0;
-    if (loaded.kind === 'rejected') {
-      this.log.warn({ reason: loaded.reason, movedTo: loaded.movedTo }, 'checkpoint set aside; starting without it');
-      return 0;
-    }
+    // The store has already warned, with the file, the problem and where it was moved.
+    if (loaded.kind === 'rejected') return 0;
     const engine = this.handle.engine;
     const summary = restoreFromDocument(loaded.doc, estimatorMap(engine));
     for (const s of summary.skipped) this.log.warn(s, 'checkpointed track not restored');
