@@ -87,9 +87,12 @@ export class OwnedPartition {
     await this.intake.start(fromSeq);
   }
 
-  /** Asks the server how far behind we are (readiness poller). */
+  /** Readiness poller: a partition whose pending count went stale gets a new consumer at seq + 1. */
   pollPending(): Promise<void> {
-    return this.phase === 'consuming' ? this.intake.poll() : Promise.resolve();
+    if (this.phase !== 'consuming' || !this.intake.stale) return Promise.resolve();
+    return this.serial(async () => {
+      if (this.phase === 'consuming' && this.intake.stale) await this.intake.restart();
+    });
   }
 
   /** The connection dropped. */

@@ -26,8 +26,6 @@ export class PartitionConsumer {
   lastSeq: number;
   /** Messages still waiting on the server as last reported; +Infinity until known. */
   pending = Number.POSITIVE_INFINITY;
-  /** Consumer sequence of the last message from the current incarnation (reset on recreation). */
-  private deliverySeq = 0;
   private consumer: Consumer | null = null;
   private messages: ConsumerMessages | null = null;
   private stopped = false;
@@ -59,7 +57,6 @@ export class PartitionConsumer {
   private deliver(msg: JsMsg): void {
     if (this.stopped || msg.seq <= this.lastSeq) return;
     this.lastSeq = msg.seq;
-    this.deliverySeq = msg.info.deliverySequence;
     this.pending = msg.info.pending;
     this.options.onMessage(msg);
   }
@@ -67,30 +64,19 @@ export class PartitionConsumer {
   private async watchStatus(messages: ConsumerMessages): Promise<void> {
     for await (const s of messages.status()) {
       if (this.stopped) break;
-      // A recreated consumer starts at lastSeq + 1 and counts deliveries from 1 again; its
-      // creation info counts what waits.
-      if (s.type === 'reset') this.deliverySeq = 0;
-      if (s.type === 'ordered_consumer_recreated') await this.refreshPending(true);
+      // A recreated consumer starts at lastSeq + 1; its creation info counts what waits.
+      if (s.type === 'ordered_consumer_recreated') await this.refreshPending();
     }
   }
 
   /**
-   * Asks the server how many messages wait (cached: the info of the consumer's creation, when
-   * nothing has been delivered yet). Messages the server delivered that have not reached us
-   * count as waiting: the consumer's delivered count is ahead of the last one we handled.
-   * Returns false when the server cannot be asked.
+   * The pending count from the consumer's creation info (the client refreshes it when it
+   * recreates an ordered consumer). Never asks the server: see partition-intake.ts.
    */
-  async refreshPending(cached = false): Promise<boolean> {
+  private async refreshPending(): Promise<void> {
     const consumer = this.consumer;
-    if (consumer === null || this.stopped) return false;
-    try {
-      const info = await consumer.info(cached);
-      const inFlight = cached ? 0 : Math.max(0, info.delivered.consumer_seq - this.deliverySeq);
-      this.pending = info.num_pending + inFlight;
-      return true;
-    } catch {
-      return false;
-    }
+    if (consumer === null || this.stopped) return;
+    this.pending = (await consumer.info(true)).num_pending;
   }
 
   /** Stops delivery; messages still in flight are dropped, not handled. Idempotent. */

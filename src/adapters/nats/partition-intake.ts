@@ -6,8 +6,16 @@ import type { JsMsg } from '@nats-io/jetstream';
 import type { PartitionContext } from './partition-context.js';
 import { PartitionConsumer } from './partition-consumer.js';
 
-/** How long a partition's messages must have been silent before the poller asks the server. */
-const POLL_IDLE_MS = 1000;
+/**
+ * How long a partition that has not caught up may go without a message before its consumer is
+ * recreated at seq + 1. Every message and a new consumer's creation info carry the pending
+ * count, so this only repairs a count that went stale (messages aged out of the stream, say).
+ * We never poll a consumer's info for it: nats-server 2.9 counts a wildcard filter's pending
+ * messages by scanning the stream on each such request, and a dozen of them during a
+ * 20,000-message catch-up cost the server 4-10 s of CPU and halved the replica's rate. A new
+ * consumer is counted once, and only after STALE_AFTER_MS of silence.
+ */
+const STALE_AFTER_MS = 10_000;
 
 /** See the module comment. */
 export class PartitionIntake {
@@ -16,8 +24,7 @@ export class PartitionIntake {
   /** True once fewer than readyPendingBelow messages wait (false again after a disconnect). */
   caughtUp = false;
   private consumer: PartitionConsumer | null = null;
-  private refreshing = false;
-  /** When a message or a poll last told us the pending count (ms, Date.now). */
+  /** When a message or a new consumer last told us the pending count (ms, Date.now). */
   private lastToldMs = 0;
   /** Set by a disconnect until restart() has a new consumer: until then nothing is caught up. */
   private restartPending = false;
@@ -40,6 +47,7 @@ export class PartitionIntake {
     });
     this.consumer = consumer;
     this.restartPending = false;
+    this.lastToldMs = Date.now();
     try {
       await consumer.start();
     } catch (err) {
@@ -94,23 +102,9 @@ export class PartitionIntake {
     this.ctx.changed();
   }
 
-  /**
-   * Asks the server how far behind we are (readiness poller), only for a partition whose
-   * messages have not told us for POLL_IDLE_MS: each message carries the pending count, and a
-   * consumer-info request makes nats-server 2.9 count a wildcard filter's pending messages
-   * over the stream (64 partitions polled five times a second stalled its read loop for seconds).
-   */
-  async poll(): Promise<void> {
-    const consumer = this.consumer;
-    if (this.caughtUp || this.refreshing || consumer === null || this.restartPending) return;
-    if (Date.now() - this.lastToldMs < POLL_IDLE_MS) return;
-    this.lastToldMs = Date.now();
-    this.refreshing = true;
-    try {
-      if (await consumer.refreshPending()) this.checkCaughtUp();
-    } finally {
-      this.refreshing = false;
-    }
+  /** True when not caught up and no message has told the pending count for STALE_AFTER_MS. */
+  get stale(): boolean {
+    return !this.caughtUp && this.consumer !== null && !this.restartPending && Date.now() - this.lastToldMs >= STALE_AFTER_MS;
   }
 
   /** The connection dropped: what we knew about pending no longer holds. */
