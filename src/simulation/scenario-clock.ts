@@ -1,6 +1,6 @@
 import type { FaultPlan } from './fault-plan.js';
 import { checkPlan } from './check-fault.js';
-import type { ScenarioOptions } from './simulated-message.js';
+import type { Scenario, ScenarioName, ScenarioOptions, SimulatedMessage } from './simulated-message.js';
 
 /** Simulation step of every scenario, in seconds. */
 export const TICK_S = 0.1;
@@ -40,4 +40,27 @@ export function assertScenarioOptions(
   if (!Number.isFinite(options.startTimeS)) issues.push(`startTimeS must be finite, got ${options.startTimeS}`);
   issues.push(...checkPlan(plan, entities, sensors));
   if (issues.length > 0) throw new RangeError(`${scenario}: ${issues.join('; ')}`);
+}
+
+/**
+ * A scenario from its tick function: `advanceTo` runs each tick not yet run up to `tS`, in order,
+ * so both scenarios share one notion of which ticks are due.
+ */
+export function tickedScenario(
+  name: ScenarioName, entities: readonly string[], startTimeS: number,
+  runTick: (k: number, out: SimulatedMessage[]) => void,
+): Scenario {
+  let nextTick = 0;
+  return {
+    name,
+    entities,
+    startTimeS,
+    tickS: TICK_S,
+    advanceTo(tS: number): SimulatedMessage[] {
+      const out: SimulatedMessage[] = [];
+      const last = lastTickAt(startTimeS, tS);
+      for (; nextTick <= last; nextTick += 1) runTick(nextTick, out);
+      return out;
+    },
+  };
 }

@@ -5,7 +5,7 @@ import { flatString } from './flat-string.js';
 import { MeasurementChannel } from './measurement-channel.js';
 import type { Prng } from './prng.js';
 import { createPrng } from './prng.js';
-import { TICK_S, TICKS_PER_SECOND, assertScenarioOptions, entityNames, lastTickAt } from './scenario-clock.js';
+import { TICK_S, TICKS_PER_SECOND, assertScenarioOptions, entityNames, tickedScenario } from './scenario-clock.js';
 import type { Scenario, ScenarioOptions, SimulatedMessage } from './simulated-message.js';
 
 /**
@@ -166,7 +166,6 @@ export function createTankFarmScenario(options: ScenarioOptions): Scenario {
   });
   const { startTimeS } = options;
   const values = new Float64Array(1);
-  let nextTick = 0;
 
   const runTick = (k: number, out: SimulatedMessage[]): void => {
     const elapsedS = k / TICKS_PER_SECOND;
@@ -190,18 +189,7 @@ export function createTankFarmScenario(options: ScenarioOptions): Scenario {
     }
   };
 
-  return {
-    name: 'tank-farm',
-    entities: names,
-    startTimeS,
-    tickS: TICK_S,
-    advanceTo(tS: number): SimulatedMessage[] {
-      const out: SimulatedMessage[] = [];
-      const last = lastTickAt(startTimeS, tS);
-      for (; nextTick <= last; nextTick += 1) runTick(nextTick, out);
-      return out;
-    },
-  };
+  return tickedScenario('tank-farm', names, startTimeS, runTick);
 }
 
 /** A false echo of the ultrasonic sensor: usually 0, occasionally ±0.2–0.6 m. */

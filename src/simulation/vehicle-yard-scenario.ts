@@ -5,7 +5,7 @@ import { flatString } from './flat-string.js';
 import { MeasurementChannel } from './measurement-channel.js';
 import type { Prng } from './prng.js';
 import { createPrng } from './prng.js';
-import { TICK_S, TICKS_PER_SECOND, assertScenarioOptions, entityNames, lastTickAt } from './scenario-clock.js';
+import { TICK_S, TICKS_PER_SECOND, assertScenarioOptions, entityNames, tickedScenario } from './scenario-clock.js';
 import type { Scenario, ScenarioOptions, SimulatedMessage } from './simulated-message.js';
 import type { LocalFrame } from './yard-geodesy.js';
 import { YARD_ORIGIN, createLocalFrame } from './yard-geodesy.js';
@@ -105,7 +105,6 @@ export function createVehicleYardScenario(options: ScenarioOptions): Scenario {
   const { startTimeS } = options;
   const wheel = new Float64Array(1);
   const fix = new Float64Array(3);
-  let nextTick = 0;
 
   const sampleGnss = (v: Vehicle, out: SimulatedMessage[], elapsedS: number, epochS: number, tText: string): void => {
     v.haccState = stepGaussMarkov(v.haccState, haccWander, v.gnssRng);
@@ -145,16 +144,5 @@ export function createVehicleYardScenario(options: ScenarioOptions): Scenario {
     }
   };
 
-  return {
-    name: 'vehicle-yard',
-    entities: names,
-    startTimeS,
-    tickS: TICK_S,
-    advanceTo(tS: number): SimulatedMessage[] {
-      const out: SimulatedMessage[] = [];
-      const last = lastTickAt(startTimeS, tS);
-      for (; nextTick <= last; nextTick += 1) runTick(nextTick, out);
-      return out;
-    },
-  };
+  return tickedScenario('vehicle-yard', names, startTimeS, runTick);
 }
