@@ -59,7 +59,7 @@ beforeAll(async () => {
   const end = await lastSeq(jsm);
   stored = await readStream(jsm, end);
   await until(() => new Set([...zero.handled, ...killed.handled, ...restarted.handled].map((h) => h.seq)).size >= end, 'every sequence handled');
-});
+}, 120_000); // each wait above is bounded; a loaded 2-core machine needs the sum of several
 
 afterAll(async () => {
   await Promise.all([zero?.stop(), restarted?.stop(), killed?.kill('SIGKILL')]);
@@ -75,7 +75,11 @@ describe('failover after SIGKILL', () => {
     const lastOfPartition = new Map<number, number>();
     for (const m of stored) lastOfPartition.set(Number(m.subject.split('.')[1]), m.seq);
     for (const p of firstReady.partitions) expect([p.partition, p.seq]).toEqual([p.partition, lastOfPartition.get(p.partition) ?? 0]);
-    expect(roundsDuringOutage).toBeGreaterThan(10);
+    // There was something to catch up on: traffic of the outage in replica 1's partitions. (How
+    // many rounds fit into the 2 s depends on the machine's load, so only that there were some.)
+    expect(roundsDuringOutage).toBeGreaterThan(0);
+    const lastByKilled = killed.handled.reduce((m, h) => Math.max(m, h.seq), 0);
+    expect(restarted.handled.filter((h) => h.seq > lastByKilled).length).toBeGreaterThan(0);
   });
 
   it('resumes each partition from its snapshot, not from the stream\'s start', () => {

@@ -80,7 +80,7 @@ beforeAll(async () => {
   firstWritesAfterSettling = writesByFirst().length;
   await devices.publish(yardTraffic(ENTITIES, 5, 30));
   await until(() => snapshottedAll(second) && second.handled.length > 0, 'the second replica to snapshot more traffic');
-});
+}, 90_000); // each wait is bounded; the sum needs room on a loaded machine
 
 afterAll(async () => {
   await devices?.close();

@@ -65,7 +65,7 @@ beforeAll(async () => {
   stored = await readStream(jsm, end);
   const lastOf = new Map(stored.map((m) => [Number(m.subject.split('.')[1]), m.seq]));
   await until(() => finalIds.every((id) => replicas.get(id)!.node.stats().partitions.every((p) => p.seq === (lastOf.get(p.partition) ?? 0))), 'every message handled by the new replicas');
-}, 90_000);
+}, 120_000); // five replicas start and stop in turn: each wait is bounded, their sum needs room
 
 afterAll(async () => {
   await devices?.close();
