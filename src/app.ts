@@ -14,6 +14,7 @@ import { EngineEvents } from './engine/engine-events.js';
 import { EngineHandle } from './engine/engine-handle.js';
 import { startEmbeddedBroker, type EmbeddedBroker } from './adapters/broker/embedded-broker.js';
 import { createMqttConnection, type MqttConnection } from './adapters/mqtt/mqtt-connection.js';
+import { publishOptionsFor } from './adapters/mqtt/publish-options.js';
 import { createAdminHttpServer } from './adapters/http/admin-http-server.js';
 import { EstimateStreamServer } from './adapters/ws/estimate-stream-server.js';
 import { createDaemonMetrics, type DaemonMetrics } from './adapters/metrics/daemon-metrics.js';
@@ -61,7 +62,7 @@ export function buildApp(initial: DeepReadonly<Config>, deps: AppDeps): App {
   const events = new EngineEvents();
   let connection: MqttConnection | null = null;
   const publisher: EstimatePublisher = {
-    publish: (topic, payload, qos, retain) => connection?.publish(topic, payload, { qos, retain }),
+    publish: (topic, payload, qos, retain) => connection?.publish(topic, payload, publishOptionsFor(qos, retain)),
   };
   const handle = new EngineHandle(new Engine(config.estimators, publisher, events));
   const registry = new Registry();

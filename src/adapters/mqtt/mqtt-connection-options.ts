@@ -35,6 +35,16 @@ export interface MqttConnectionOptions {
   readonly waitForConnect?: boolean;
   /** Outgoing messages held while offline or flow-controlled before the oldest is dropped. Default 10000. */
   readonly maxQueuedOutgoing?: number;
+  /** Bytes (topic plus payload) held while offline or flow-controlled before the oldest is dropped. Default 8 MiB. */
+  readonly maxQueuedOutgoingBytes?: number;
+  /**
+   * Longest an outgoing packet waits so that several leave in one socket write, in ms (at least
+   * 1). Default 1: at thousands of estimates a second one write per estimate cost more CPU than
+   * all the estimation.
+   */
+  readonly flushDelayMs?: number;
+  /** Buffered bytes that send the batch at once. Default 16384 (a socket's high-water mark). */
+  readonly flushBytes?: number;
   /** Upper bound for `stop()` to flush outgoing messages and the final status. Default 5000 ms. */
   readonly stopTimeoutMs?: number;
   /** Clock in epoch milliseconds. Default `Date.now`. */

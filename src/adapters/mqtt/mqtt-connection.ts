@@ -16,7 +16,9 @@ import mqtt, { type IConnackPacket, type ISubscriptionMap, type MqttClient } fro
 import { connackRefusal } from './connack-refusal.js';
 import { mqttClientOptions, OFFLINE_STATUS, readTlsMaterial, redactBrokerUrl } from './mqtt-client-options.js';
 import type { MqttConnectionOptions, MqttPublishOptions } from './mqtt-connection-options.js';
-import { createOutgoingQueue, type OutgoingMessage } from './outgoing-queue.js';
+import { createOutgoingQueue } from './outgoing-queue.js';
+import { publishOptionsFor } from './publish-options.js';
+import { createSocketWriteBatch, type CorkableStream } from './socket-write-batch.js';
 import { reconnectDelayMs } from './reconnect-backoff.js';
 
 export type { MqttConnectionOptions, MqttLogger, MqttPublishOptions, MqttSubscription } from './mqtt-connection-options.js';
@@ -71,31 +73,33 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
   let subscribed = false;
   let wasConnected = false;
 
+  const batch = createSocketWriteBatch({ delayMs: options.flushDelayMs ?? 1, maxBytes: options.flushBytes ?? 16384 });
+  // The stream whose 'drain' resumes the queue; mqtt.js makes a new one per connection.
+  let drainWatched: NodeJS.EventEmitter | null = null;
+  const socketOf = (c: MqttClient): SocketLike | undefined => c.stream as unknown as SocketLike | undefined;
   const queue = createOutgoingQueue({
     maxQueued: options.maxQueuedOutgoing ?? 10000,
+    maxQueuedBytes: options.maxQueuedOutgoingBytes ?? 8 * 1024 * 1024,
     maxInFlight: broker.maxInflight,
-    canSend: () => client?.connected === true && stopping === undefined,
-    send: (m: OutgoingMessage, done) => {
+    // A socket that asked for a drain has a full buffer: hold messages in our bounded queue
+    // rather than in mqtt.js's unbounded one, and resume on 'drain'.
+    canSend: () => client?.connected === true && stopping === undefined && socketOf(client)?.writableNeedDrain !== true,
+    send: (topic, payload, qos, retain, done) => {
       const c = client;
-      if (c === undefined || c === null) return;
-      corkForThisTurn(c);
-      c.publish(m.topic, m.payload, { qos: m.qos, retain: m.retain }, done);
+      if (c === undefined) return;
+      const stream = socketOf(c);
+      if (stream !== undefined && typeof stream.cork === 'function') batch.open(stream);
+      // mqtt.js copies the options, so shared constants do; a QoS 0 publish needs no callback.
+      if (done === null) c.publish(topic, payload, publishOptionsFor(qos, retain));
+      else c.publish(topic, payload, publishOptionsFor(qos, retain), done);
+      batch.written();
     },
   });
-  // mqtt.js writes each packet as it goes, one syscall per estimate (a quarter of the daemon's
-  // CPU in the e2e bench). Corking the socket for the rest of the current turn sends a burst of
-  // estimates in one write; the uncork on the next tick keeps latency to that turn.
-  let corked: { cork(): void; uncork(): void } | null = null;
-  const corkForThisTurn = (c: { stream?: unknown }): void => {
-    const stream = c.stream as { cork?: () => void; uncork?: () => void } | undefined;
-    if (stream === undefined || corked === stream || typeof stream.cork !== 'function' || typeof stream.uncork !== 'function') return;
-    const s = stream as { cork(): void; uncork(): void };
-    s.cork();
-    corked = s;
-    process.nextTick(() => {
-      corked = null;
-      s.uncork();
-    });
+  const watchDrain = (c: MqttClient): void => {
+    const stream = c.stream as unknown as NodeJS.EventEmitter | undefined;
+    if (stream === undefined || stream === drainWatched) return;
+    drainWatched = stream;
+    stream.on('drain', () => queue.pump());
   };
   const emitError = (err: Error): void => {
     if (events.listenerCount('error') > 0) events.emit('error', err);
@@ -144,6 +148,7 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
       if (!subscribed || !sessionPresent) subscribe(c);
       const online = JSON.stringify({ status: 'online', since: new Date(now()).toISOString() });
       c.publish(statusTopic, online, { qos: 1, retain: true });
+      watchDrain(c);
       queue.pump();
       events.emit('connect', { sessionPresent });
     });
@@ -153,6 +158,7 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
       c.options.reconnectPeriod = reconnectDelayMs(attempt, broker.reconnectMinMs, broker.reconnectMaxMs, options.random);
     });
     c.prependListener('close', () => {
+      batch.flush();
       if (stopping !== undefined) return;
       if (wasConnected) {
         wasConnected = false;
@@ -212,6 +218,7 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
     stop(stopOptions = { finalStatus: true }) {
       stopping ??= (async () => {
         abortFirstConnect?.(new Error(STOPPED_BEFORE_CONNECT));
+        batch.flush();
         const c = client;
         if (c === undefined) return;
         if (c.connected) {
@@ -220,6 +227,7 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
           });
           await withTimeout(flushed, stopTimeoutMs);
         }
+        batch.close();
         const abandoned = queue.clear();
         if (abandoned > 0) logger.warn({ dropped: abandoned }, 'stopped with outgoing messages unsent');
         // A graceful end waits for unacknowledged publishes, which never come if the broker is gone.
@@ -229,8 +237,8 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
       })();
       return stopping;
     },
-    publish(topic, payload, publishOptions = {}) {
-      queue.push({ topic, payload, qos: publishOptions.qos ?? 0, retain: publishOptions.retain ?? false });
+    publish(topic, payload, publishOptions) {
+      queue.offer(topic, payload, publishOptions?.qos ?? 0, publishOptions?.retain ?? false);
     },
     get connected() {
       return client?.connected === true && stopping === undefined;
@@ -252,6 +260,11 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
     },
   };
   return connection;
+}
+
+/** The socket as the connection uses it: corkable, with Node's writable state. */
+interface SocketLike extends CorkableStream {
+  readonly writableNeedDrain?: boolean;
 }
 
 function publishAsync(c: MqttClient, topic: string, payload: string): Promise<void> {

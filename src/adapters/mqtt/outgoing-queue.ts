@@ -1,10 +1,16 @@
 /**
  * A bounded queue in front of the MQTT client's publish. mqtt.js buffers without limit while
  * offline and adds one socket `drain` listener per publish while the socket is full (it warns
- * past about a thousand), so the daemon keeps its own bounds: at most `maxInFlight` publishes
- * handed to the client and not yet completed, at most `maxQueued` waiting behind them. When the
- * queue is full the oldest waiting message is dropped and counted: for estimates the newest
- * value is the one worth sending.
+ * past about a thousand), so the daemon keeps its own bounds: at most `maxInFlight`
+ * acknowledged (QoS 1 and 2) publishes handed to the client and not yet completed, and at most
+ * `maxQueued` messages and `maxQueuedBytes` bytes waiting. When a bound is passed the oldest
+ * waiting message is dropped and counted: for estimates the newest value is the one worth
+ * sending.
+ *
+ * QoS 0 has nothing to wait for once the client has it, so it takes no in-flight slot and no
+ * completion callback; its backpressure is `canSend()` (the connection says no while the socket
+ * wants a drain). When nothing waits and sending is possible, a message goes straight to the
+ * client without being wrapped in a queue entry: the steady state allocates nothing here.
  */
 
 /** One message to publish. */
@@ -17,19 +23,26 @@ export interface OutgoingMessage {
 
 /** How the queue reaches the client. */
 export interface OutgoingQueueOptions {
-  /** Messages waiting while offline or while `maxInFlight` are outstanding (at least 1). */
+  /** Messages waiting while offline or flow-controlled (at least 1). */
   readonly maxQueued: number;
-  /** Publishes handed to the client whose completion callback has not run yet. */
+  /** Bytes (topic plus payload) waiting at most; default unbounded. */
+  readonly maxQueuedBytes?: number;
+  /** QoS 1/2 publishes handed to the client whose completion callback has not run yet. */
   readonly maxInFlight: number;
-  /** True while handing messages to the client makes sense (connected, not stopping). */
+  /** True while handing messages to the client makes sense (connected, not stopping, socket not full). */
   readonly canSend: () => boolean;
-  /** Hands one message to the client; `done` runs once it is written (QoS 0) or acknowledged. */
-  readonly send: (message: OutgoingMessage, done: () => void) => void;
+  /**
+   * Hands one message to the client. `done` is null for QoS 0; otherwise it runs once the
+   * message is acknowledged (or given up by the client).
+   */
+  readonly send: (topic: string, payload: string | Buffer, qos: 0 | 1 | 2, retain: boolean, done: (() => void) | null) => void;
 }
 
 /** The queue's surface. */
 export interface OutgoingQueue {
-  /** Queues a message and sends what the bounds allow. Never throws. */
+  /** Sends the message now when the bounds allow, else queues it. Never throws. */
+  offer(topic: string, payload: string | Buffer, qos: 0 | 1 | 2, retain: boolean): void;
+  /** The same as `offer` for a message already in one object. */
   push(message: OutgoingMessage): void;
   /** Sends queued messages while allowed; call it when sending becomes possible again. */
   pump(): void;
@@ -38,17 +51,26 @@ export interface OutgoingQueue {
   /** Drops every queued message (counted) and returns how many were dropped. */
   clear(): number;
   readonly queuedCount: number;
+  /** Bytes (topic plus payload) of the queued messages. */
+  readonly queuedBytes: number;
   readonly inFlightCount: number;
   /** Messages dropped so far because the queue was full or cleared. */
   readonly droppedCount: number;
 }
 
+interface Waiting extends OutgoingMessage {
+  readonly bytes: number;
+}
+
 /** Creates an {@link OutgoingQueue}. */
 export function createOutgoingQueue(options: OutgoingQueueOptions): OutgoingQueue {
   // Taken from `head` on; slots before it are cleared so sent messages can be collected.
-  const waiting: Array<OutgoingMessage | undefined> = [];
+  const waiting: Array<Waiting | undefined> = [];
   const maxQueued = Math.max(1, options.maxQueued);
+  const maxQueuedBytes = options.maxQueuedBytes ?? Infinity;
+  const { canSend, send, maxInFlight } = options;
   let head = 0;
+  let bytes = 0;
   let inFlight = 0;
   let dropped = 0;
   let pumping = false;
@@ -68,28 +90,43 @@ export function createOutgoingQueue(options: OutgoingQueueOptions): OutgoingQueu
       head = 0;
     }
   };
+  const take = (): Waiting => {
+    const message = waiting[head] as Waiting;
+    waiting[head] = undefined;
+    head += 1;
+    bytes -= message.bytes;
+    return message;
+  };
   const complete = (): void => {
     inFlight -= 1;
     pump();
     notifyIfIdle();
   };
+  const dispatch = (topic: string, payload: string | Buffer, qos: 0 | 1 | 2, retain: boolean): void => {
+    if (qos === 0) {
+      send(topic, payload, 0, retain, null);
+      return;
+    }
+    inFlight += 1;
+    let completed = false;
+    send(topic, payload, qos, retain, () => {
+      if (completed) return;
+      completed = true;
+      complete();
+    });
+  };
+  const sendable = (qos: 0 | 1 | 2): boolean => (qos === 0 || inFlight < maxInFlight) && canSend();
+
   function pump(): void {
-    // A QoS 0 callback can run synchronously inside send(); the flag turns that re-entry into
-    // another turn of this loop instead of a recursion as deep as the queue.
+    // A callback can run synchronously inside send(); the flag turns that re-entry into another
+    // turn of this loop instead of a recursion as deep as the queue.
     if (pumping) return;
     pumping = true;
     try {
-      while (queued() > 0 && inFlight < options.maxInFlight && options.canSend()) {
-        const message = waiting[head] as OutgoingMessage;
-        waiting[head] = undefined;
-        head += 1;
-        inFlight += 1;
-        let completed = false;
-        options.send(message, () => {
-          if (completed) return;
-          completed = true;
-          complete();
-        });
+      // Strictly in order: a QoS 1 message waiting for a slot holds back the QoS 0 ones behind it.
+      while (queued() > 0 && sendable((waiting[head] as Waiting).qos)) {
+        const m = take();
+        dispatch(m.topic, m.payload, m.qos, m.retain);
       }
     } finally {
       pumping = false;
@@ -97,15 +134,25 @@ export function createOutgoingQueue(options: OutgoingQueueOptions): OutgoingQueu
     }
   }
 
-  return {
+  const enqueue = (topic: string, payload: string | Buffer, qos: 0 | 1 | 2, retain: boolean): void => {
+    const size = Buffer.byteLength(topic) + (typeof payload === 'string' ? Buffer.byteLength(payload) : payload.length);
+    waiting.push({ topic, payload, qos, retain, bytes: size });
+    bytes += size;
+    // The newest message stays even when it alone exceeds the byte bound.
+    while (queued() > 1 && (queued() > maxQueued || bytes > maxQueuedBytes)) {
+      take();
+      dropped += 1;
+    }
+    pump();
+  };
+
+  const queue: OutgoingQueue = {
+    offer(topic, payload, qos, retain) {
+      if (queued() === 0 && !pumping && sendable(qos)) dispatch(topic, payload, qos, retain);
+      else enqueue(topic, payload, qos, retain);
+    },
     push(message) {
-      if (queued() >= maxQueued) {
-        waiting[head] = undefined;
-        head += 1;
-        dropped += 1;
-      }
-      waiting.push(message);
-      pump();
+      queue.offer(message.topic, message.payload, message.qos, message.retain);
     },
     pump,
     whenIdle() {
@@ -118,12 +165,16 @@ export function createOutgoingQueue(options: OutgoingQueueOptions): OutgoingQueu
       const n = queued();
       waiting.length = 0;
       head = 0;
+      bytes = 0;
       dropped += n;
       notifyIfIdle();
       return n;
     },
     get queuedCount() {
       return queued();
+    },
+    get queuedBytes() {
+      return bytes;
     },
     get inFlightCount() {
       return inFlight;
@@ -132,4 +183,5 @@ export function createOutgoingQueue(options: OutgoingQueueOptions): OutgoingQueu
       return dropped;
     },
   };
+  return queue;
 }

@@ -78,6 +78,34 @@ describe('mqtt connection', () => {
     expect(await got).toEqual({ payload: '{"xM":12.5}', qos: 1 });
   });
 
+  it('sends messages published over several event-loop turns in one socket write, in order', async () => {
+    const topic = `${uniqueTopicPrefix('vehicle-yard')}/tug-04/estimate`;
+    await observer.subscribeAsync(topic, { qos: 0 });
+    let client: MqttClient | undefined;
+    // A long delay so that a slow machine cannot split the batch by the clock.
+    const c = connection({ flushDelayMs: 500, connectClient: (url: string, options: IClientOptions) => (client = mqtt.connect(url, options)) });
+    await c.start();
+    const socket = client!.stream as unknown as { _write: (...a: unknown[]) => void; _writev: (...a: unknown[]) => void };
+    let writes = 0;
+    const write = socket._write.bind(socket);
+    const writev = socket._writev.bind(socket);
+    socket._write = (...a) => void ((writes += 1), write(...a));
+    socket._writev = (...a) => void ((writes += 1), writev(...a));
+    const got: string[] = [];
+    const all = new Promise<void>((resolve) => {
+      observer.on('message', (t, p) => {
+        if (t === topic && got.push(p.toString()) === 10) resolve();
+      });
+    });
+    for (let seq = 0; seq < 10; seq += 1) {
+      c.publish(topic, `{"seq":${seq}}`, { qos: 0 });
+      await new Promise((r) => setImmediate(r));
+    }
+    await all;
+    expect(got).toEqual(Array.from({ length: 10 }, (_, seq) => `{"seq":${seq}}`));
+    expect(writes).toBe(1);
+  });
+
   it('holds messages published before the first connection and sends them once connected', async () => {
     const topic = `${uniqueTopicPrefix('tank-farm')}/tank-b/estimate`;
     await observer.subscribeAsync(topic, { qos: 1 });

@@ -1,18 +1,21 @@
 import { describe, expect, it } from 'vitest';
 import { createOutgoingQueue, type OutgoingMessage } from '../../../src/adapters/mqtt/outgoing-queue.js';
 
-const message = (seq: number): OutgoingMessage => ({ topic: 'vehicle-yard/tug-03/estimate', payload: String(seq), qos: 1, retain: false });
+const TOPIC = 'vehicle-yard/tug-03/estimate';
+const message = (seq: number, qos: 0 | 1 = 1): OutgoingMessage => ({ topic: TOPIC, payload: String(seq), qos, retain: false });
 
-function harness(options: { maxQueued: number; maxInFlight: number; synchronousDone?: boolean }) {
+function harness(options: { maxQueued: number; maxInFlight: number; maxQueuedBytes?: number; synchronousDone?: boolean }) {
   const sent: string[] = [];
   const pending: Array<() => void> = [];
   const state = { online: false };
   const queue = createOutgoingQueue({
     maxQueued: options.maxQueued,
+    ...(options.maxQueuedBytes === undefined ? {} : { maxQueuedBytes: options.maxQueuedBytes }),
     maxInFlight: options.maxInFlight,
     canSend: () => state.online,
-    send: (m, done) => {
-      sent.push(String(m.payload));
+    send: (_topic, payload, _qos, _retain, done) => {
+      sent.push(String(payload));
+      if (done === null) return;
       if (options.synchronousDone === true) done();
       else pending.push(done);
     },
@@ -90,5 +93,65 @@ describe('outgoing queue', () => {
     h.queue.push(message(2));
     expect(h.queue.clear()).toBe(2);
     expect(h.queue.droppedCount).toBe(2);
+  });
+
+  it('drops the oldest waiting messages past its byte bound and counts them', () => {
+    // Each message is the topic plus a 100-byte payload; the bound holds two of them.
+    const size = TOPIC.length + 100;
+    const h = harness({ maxQueued: 100, maxInFlight: 10, maxQueuedBytes: 2 * size });
+    for (let seq = 1; seq <= 5; seq += 1) h.queue.push({ topic: TOPIC, payload: String(seq).padEnd(100, '.'), qos: 0, retain: false });
+    expect(h.queue.queuedCount).toBe(2);
+    expect(h.queue.queuedBytes).toBe(2 * size);
+    expect(h.queue.droppedCount).toBe(3);
+    h.state.online = true;
+    h.queue.pump();
+    expect(h.sent.map((p) => p.replace(/\.+$/, ''))).toEqual(['4', '5']);
+    expect(h.queue.queuedBytes).toBe(0);
+  });
+
+  it('keeps the newest message even when it alone is larger than the byte bound', () => {
+    const h = harness({ maxQueued: 10, maxInFlight: 10, maxQueuedBytes: 10 });
+    h.queue.push(message(1));
+    h.queue.push({ topic: TOPIC, payload: 'x'.repeat(50), qos: 1, retain: false });
+    expect(h.queue.queuedCount).toBe(1);
+    expect(h.queue.droppedCount).toBe(1);
+  });
+
+  it('counts bytes of a multi-byte payload in UTF-8', () => {
+    const h = harness({ maxQueued: 10, maxInFlight: 10 });
+    h.queue.push({ topic: 'a', payload: 'é', qos: 0, retain: false });
+    expect(h.queue.queuedBytes).toBe(3);
+  });
+
+  it('sends QoS 0 messages without a completion callback or an in-flight slot', () => {
+    const h = harness({ maxQueued: 10, maxInFlight: 1 });
+    h.state.online = true;
+    for (let seq = 1; seq <= 4; seq += 1) h.queue.push(message(seq, 0));
+    expect(h.sent).toEqual(['1', '2', '3', '4']);
+    expect(h.pending).toHaveLength(0);
+    expect(h.queue.inFlightCount).toBe(0);
+  });
+
+  it('holds QoS 0 messages behind a QoS 1 message waiting for a slot, keeping the order', () => {
+    const h = harness({ maxQueued: 10, maxInFlight: 1 });
+    h.state.online = true;
+    h.queue.push(message(1));
+    h.queue.push(message(2));
+    h.queue.push(message(3, 0));
+    expect(h.sent).toEqual(['1']);
+    h.pending.shift()?.();
+    expect(h.sent).toEqual(['1', '2', '3']);
+  });
+
+  it('resumes after sending was refused once pump() is called again', () => {
+    const h = harness({ maxQueued: 10, maxInFlight: 10 });
+    h.state.online = true;
+    h.queue.push(message(1, 0));
+    h.state.online = false;
+    h.queue.push(message(2, 0));
+    expect(h.sent).toEqual(['1']);
+    h.state.online = true;
+    h.queue.pump();
+    expect(h.sent).toEqual(['1', '2']);
   });
 });
