@@ -8,6 +8,7 @@ import { benchCore } from './core-bench.js';
 import { benchDecode } from './decode-bench.js';
 import { benchReplay } from './replay-bench.js';
 import { benchE2e } from './e2e-bench.js';
+import { benchScale } from './scale-bench.js';
 
 type Section = () => Promise<Record<string, number>> | Record<string, number>;
 
@@ -16,6 +17,7 @@ const SECTIONS: Record<string, Section> = {
   decode: benchDecode,
   e2e: benchE2e,
   replay: benchReplay,
+  scale: benchScale,
 };
 
 /** Targets from the issues, shown beside each figure (`<=` or `>=`). */
