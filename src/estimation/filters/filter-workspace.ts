@@ -1,4 +1,15 @@
 import { RowPattern } from '../linalg/sparse-pattern.js';
+import type { PredictKernel } from './predict-kernel.js';
+import type { UpdateKernel } from './update-kernel.js';
+
+/** Construction options of a FilterWorkspace. */
+export interface FilterWorkspaceOptions {
+  /**
+   * Run the steps through kernels generated from the nonzero structure of A and H (default
+   * true); false keeps the general loop kernels, which tests compare against.
+   */
+  readonly generatedKernels?: boolean;
+}
 
 /**
  * Scratch buffers for one estimator's filter steps, sized once for P states and at most
@@ -42,9 +53,30 @@ export class FilterWorkspace {
   /** Results of the last update: the NIS d² = νᵀS⁻¹ν, and the measurement dimension used. */
   nis = Number.NaN;
   lastM = 0;
+  /** Whether generated kernels are used at all (see FilterWorkspaceOptions). */
+  readonly generatedKernels: boolean;
+  /**
+   * The nonzero mask of A that predictKernel was built for, the model whose transitions shaped
+   * it, whether the current ws.A is finite, and the kernel (null: the loop kernels).
+   */
+  readonly aMask: Uint8Array;
+  aMaskModel: object | null = null;
+  aFinite = false;
+  predictKernel: PredictKernel | null = null;
+  /**
+   * Per measurement dimension m: the nonzero mask of H (m×n) its kernel was built for, whether
+   * one was built, and the kernel (null: the loop kernels); hFinite tells whether the current
+   * ws.H is finite (a non-finite Jacobian takes the loop kernels, which refuse it).
+   */
+  readonly hMasks: Uint8Array[];
+  readonly hMaskBuilt: Uint8Array;
+  readonly updateKernels: (UpdateKernel | null)[];
+  hFinite = false;
+  /** The NIS slot a generated update writes. */
+  readonly nisOut = new Float64Array(1);
 
   /** Allocates every buffer once (setup time). */
-  constructor(n: number, maxM: number) {
+  constructor(n: number, maxM: number, options: FilterWorkspaceOptions = {}) {
     if (!Number.isInteger(n) || n < 1) throw new Error(`FilterWorkspace: state dimension must be a positive integer, got ${n}`);
     if (!Number.isInteger(maxM) || maxM < 1) throw new Error(`FilterWorkspace: measurement dimension must be a positive integer, got ${maxM}`);
     this.n = n;
@@ -70,5 +102,10 @@ export class FilterWorkspace {
     this.KR = new Float64Array(n * maxM);
     this.mScratch = new Float64Array(Math.max(maxM, n));
     this.sDiagonal = new Float64Array(maxM);
+    this.generatedKernels = options.generatedKernels ?? true;
+    this.aMask = new Uint8Array(n * n);
+    this.hMasks = Array.from({ length: maxM + 1 }, (_, m) => new Uint8Array(m * n));
+    this.hMaskBuilt = new Uint8Array(maxM + 1);
+    this.updateKernels = Array.from({ length: maxM + 1 }, () => null);
   }
 }

@@ -4,6 +4,8 @@ import { denseTimesSparseTransposedInto } from '../linalg/sparse-pattern.js';
 import { allFinite } from '../linalg/symmetric.js';
 import type { FilterWorkspace } from './filter-workspace.js';
 import { addNoiseAndGate, gainAndStateInto } from './innovation-gate.js';
+import { fitsMask, widenMask } from '../linalg/nonzero-mask.js';
+import { UPDATE_APPLIED, UPDATE_GATE, updateKernelFor } from './update-kernel.js';
 
 /** What an update did: applied, refused by the gate, or refused because the numbers broke. */
 export type UpdateVerdict = 'applied' | 'gate' | 'numerics';
@@ -16,7 +18,9 @@ export type UpdateVerdict = 'applied' | 'gate' | 'numerics';
  * (I − KH) P (I − KH)ᵀ + K R Kᵀ, which stays symmetric PSD for any gain (Bucy & Joseph 1968;
  * Simon, Optimal State Estimation, 2006, eq. 5.19; from memory), computed on the upper triangle
  * and mirrored. Nothing is committed unless the result is finite and PSD. The NIS, ν and
- * diag(S) of the attempt are left in the workspace for health statistics.
+ * diag(S) of the attempt are left in the workspace for health statistics, and S and K for
+ * inspection. P must be symmetric. The work runs in a kernel generated for H's nonzero mask
+ * (update-kernel.ts) or, past its size limit or for a non-finite H, in the loop kernels below.
  */
 export function kalmanUpdateInPlace(
   model: MeasurementModel,
@@ -27,20 +31,52 @@ export function kalmanUpdateInPlace(
   P: Float64Array,
   ws: FilterWorkspace,
 ): UpdateVerdict {
-  const n = ws.n;
   const m = model.dim;
   ws.lastM = m;
   ws.nis = Number.NaN;
-  const H = ws.H;
   model.measureInto(x, ws.yhat);
-  const pat = ws.hPattern[m]!;
-  // A linear sensor's H is its constant C: written and scanned once until another model runs.
+  // A linear sensor's H is its constant C: written once until another model runs.
   if (!model.linear || model !== ws.cachedHModel) {
-    model.jacobianInto(x, H);
-    pat.scan(H);
+    model.jacobianInto(x, ws.H);
     ws.cachedHModel = model.linear ? model : null;
+    refreshUpdateKernel(m, ws);
   }
   model.innovationInto(y, ws.yhat, ws.nu);
+  const kernel = ws.hFinite ? ws.updateKernels[m]! : null;
+  if (kernel === null) return updateByLoops(m, R, gateThreshold, x, P, ws);
+  ws.nisOut[0] = Number.NaN;
+  const code = kernel(x, P, ws.H, R, ws.nu, gateThreshold, ws.S, ws.sDiagonal, ws.K, ws.nisOut);
+  ws.nis = ws.nisOut[0]!;
+  return code === UPDATE_APPLIED ? 'applied' : code === UPDATE_GATE ? 'gate' : 'numerics';
+}
+
+/**
+ * After ws.H is rewritten: keeps the kernel of dimension m while H's nonzeros stay inside its
+ * mask, and widens the mask (shared by every sensor of that dimension, so alternating sensors
+ * settle on one kernel) when a new nonzero appears. A non-finite H goes to the loop kernels,
+ * which refuse it, so that it never widens the mask. The loops need H's exact pattern.
+ */
+function refreshUpdateKernel(m: number, ws: FilterWorkspace): void {
+  const len = m * ws.n;
+  ws.hFinite = allFinite(ws.H, len);
+  if (ws.hFinite && ws.generatedKernels) {
+    const mask = ws.hMasks[m]!;
+    if (ws.hMaskBuilt[m] === 0 || !fitsMask(ws.H, mask, len)) {
+      widenMask(ws.H, mask, len);
+      ws.updateKernels[m] = updateKernelFor(ws.n, m, mask);
+      ws.hMaskBuilt[m] = 1;
+    }
+  }
+  if (!ws.hFinite || ws.updateKernels[m] === null) ws.hPattern[m]!.scan(ws.H);
+}
+
+/** The general path over H's row pattern, for sizes past the generated kernels' limit. */
+function updateByLoops(
+  m: number, R: Float64Array, gateThreshold: number, x: Float64Array, P: Float64Array, ws: FilterWorkspace,
+): UpdateVerdict {
+  const n = ws.n;
+  const H = ws.H;
+  const pat = ws.hPattern[m]!;
   // U = P Hᵀ (n×m); S = H U (upper triangle, mirrored), then + R in addNoiseAndGate.
   denseTimesSparseTransposedInto(P, n, H, pat, ws.U);
   const S = ws.S;
