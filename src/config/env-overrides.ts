@@ -12,6 +12,8 @@ export interface EnvOverride {
   readonly path: readonly [string, string];
   /** How the text is read: as is, or as a whole number (a port). */
   readonly kind: 'string' | 'integer';
+  /** Applies only when the file has the section: setting the variable must not switch a mode on. */
+  readonly onlyInSection?: boolean;
 }
 
 /** Every supported override. */
@@ -24,6 +26,9 @@ export const ENV_OVERRIDES: readonly EnvOverride[] = [
   { name: 'STATECAST_HTTP_PORT', path: ['http', 'port'], kind: 'integer' },
   { name: 'STATECAST_STATE_DIR', path: ['checkpoint', 'directory'], kind: 'string' },
   { name: 'STATECAST_LOG_LEVEL', path: ['log', 'level'], kind: 'string' },
+  // A pod template can set these from the pod index (the downward API) instead of a host name.
+  { name: 'STATECAST_SCALE_OUT_ORDINAL', path: ['scaleOut', 'ordinal'], kind: 'integer', onlyInSection: true },
+  { name: 'STATECAST_SCALE_OUT_REPLICAS', path: ['scaleOut', 'replicas'], kind: 'integer', onlyInSection: true },
 ];
 
 function isPlainObject(value: unknown): value is Record<string, unknown> {
@@ -46,6 +51,7 @@ export function applyEnvOverrides(
     const text = env[override.name];
     if (text === undefined || text === '') continue;
     const [section, field] = override.path;
+    if (override.onlyInSection === true && root[section] === undefined) continue;
     const current = root[section] ?? {};
     if (!isPlainObject(current)) continue;
     const value = override.kind === 'integer' && /^\d+$/.test(text.trim()) ? Number(text.trim()) : text;
