@@ -4,12 +4,14 @@
  * view, the broker and the WebSocket feed at scrape time. Names are listed in
  * daemon-metric-names.ts, with the label cardinality.
  */
-import { collectDefaultMetrics, Counter, Gauge, Histogram, type Registry } from 'prom-client';
+import { collectDefaultMetrics, Counter, Gauge, type Registry } from 'prom-client';
 import { REJECTION_REASONS } from '../../estimation/rejection-reason.js';
 import { DECODE_REJECTIONS } from '../../engine/decode-rejection.js';
 import type { EngineEventMap } from '../../engine/engine-events.js';
 import type { EngineView } from '../../engine/engine-view.js';
 import { HEALTH_REASONS } from '../../engine/health-change.js';
+import { createCellCounter } from './cell-counter.js';
+import { CellHistogram } from './cell-histogram.js';
 import { registerEventLoopLagGauge } from './event-loop-lag-gauge.js';
 import { registerTrackGauges } from './track-gauges.js';
 
@@ -72,29 +74,31 @@ export function createDaemonMetrics(options: DaemonMetricsOptions): DaemonMetric
   const registers = [registry];
   if (options.defaultMetrics !== false) collectDefaultMetrics({ register: registry, prefix: 'statecast_' });
 
-  const received = new Counter({
+  // Counted into cells and handed to prom-client at scrape (see label-cells.ts): the
+  // per-measurement cost is a few Map lookups, not a label hash per metric.
+  const received = createCellCounter({
     name: 'statecast_measurements_received_total',
     help: 'Measurements received (accepted plus rejected), by estimator and sensor.',
     labelNames: ['estimator', 'sensor'],
-    registers,
+    registry,
   });
-  const accepted = new Counter({
+  const accepted = createCellCounter({
     name: 'statecast_measurements_accepted_total',
     help: 'Measurements used by a filter; late="true" when one arrived out of order and was replayed.',
     labelNames: ['estimator', 'sensor', 'late'],
-    registers,
+    registry,
   });
-  const rejected = new Counter({
+  const rejected = createCellCounter({
     name: 'statecast_measurements_rejected_total',
     help: 'Measurements not used, by reason (gate, too-late, decode failures, no-route, entity-cap, ...).',
     labelNames: ['estimator', 'sensor', 'reason'],
-    registers,
+    registry,
   });
-  const published = new Counter({
+  const published = createCellCounter({
     name: 'statecast_estimates_published_total',
     help: 'Estimates produced, by estimator and kind (filtered, predicted, smoothed).',
     labelNames: ['estimator', 'kind'],
-    registers,
+    registry,
   });
   const transitions = new Counter({
     name: 'statecast_health_transitions_total',
@@ -102,13 +106,13 @@ export function createDaemonMetrics(options: DaemonMetricsOptions): DaemonMetric
     labelNames: ['estimator', 'to', 'reason'],
     registers,
   });
-  const latency = new Histogram({
+  const latency = new CellHistogram({
     name: 'statecast_processing_latency_seconds',
     help: 'Seconds from a measurement\'s event time to its processing (late data lands in the upper buckets).',
     labelNames: ['estimator'],
-    buckets: [...PROCESSING_LATENCY_BUCKETS_S],
-    registers,
-  });
+    buckets: PROCESSING_LATENCY_BUCKETS_S,
+    registry,
+  }).cells;
 
   registerTrackGauges(registry, view);
   const loopLag = registerEventLoopLagGauge(registry, options.eventLoopResolutionMs);
@@ -116,21 +120,21 @@ export function createDaemonMetrics(options: DaemonMetricsOptions): DaemonMetric
 
   const handlers: { [K in keyof EngineEventMap]?: (e: EngineEventMap[K]) => void } = {
     'measurement:accepted': (e) => {
-      received.inc({ estimator: e.estimator, sensor: e.sensor });
-      accepted.inc({ estimator: e.estimator, sensor: e.sensor, late: e.late ? 'true' : 'false' });
+      received.cell(e.estimator, e.sensor).value += 1;
+      accepted.cell(e.estimator, e.sensor, e.late ? 'true' : 'false').value += 1;
       // A stamp slightly ahead of this host's clock gives a negative latency: that is clock
       // offset, not time travel, and a histogram sum must not shrink.
-      if (Number.isFinite(e.latencyS)) latency.observe({ estimator: e.estimator }, Math.max(0, e.latencyS));
+      if (Number.isFinite(e.latencyS)) latency.cell(e.estimator).observe(Math.max(0, e.latencyS));
     },
     'measurement:rejected': (e) => {
-      received.inc({ estimator: e.estimator, sensor: e.sensor });
+      received.cell(e.estimator, e.sensor).value += 1;
       // The type already closes the set; the check keeps the label bounded even if a caller
       // outside the type system passes something else.
       const reason = REJECTION_LABEL_SET.has(e.reason) ? e.reason : 'other';
-      rejected.inc({ estimator: e.estimator, sensor: e.sensor, reason });
+      rejected.cell(e.estimator, e.sensor, reason).value += 1;
     },
     'estimate': (e) => {
-      published.inc({ estimator: e.estimator, kind: e.kind });
+      published.cell(e.estimator, e.kind).value += 1;
     },
     'health:changed': (e) => {
       const first = e.reasons[0];
