@@ -71,12 +71,12 @@ export class CellHistogram extends Histogram<string> {
     const values: MetricValueWithName<string>[] = [];
     const name = this.metricName;
     const bucket = `${name}_bucket`;
+    // le first, as prom-client's own histogram writes it.
     for (const c of this.cells.cells()) {
       let cumulative = 0;
       for (let i = 0; i < this.upper.length; i++) {
         cumulative += c.counts[i]!;
-        // le first, as prom-client's own histogram writes it.
-      values.push({ metricName: bucket, labels: { le: this.upper[i]!, ...c.labels }, value: cumulative });
+        values.push({ metricName: bucket, labels: { le: this.upper[i]!, ...c.labels }, value: cumulative });
       }
       values.push({ metricName: bucket, labels: { le: '+Inf', ...c.labels }, value: c.count });
       values.push({ metricName: `${name}_sum`, labels: { ...c.labels }, value: c.sum });
