@@ -10,7 +10,11 @@ import type { HealthChange } from './health-change.js';
 
 /** Every event name and its payload. */
 export interface EngineEventMap {
-  /** An estimate was produced: `payload` is the JSON published on MQTT and pushed on WebSocket. */
+  /**
+   * An estimate was produced: `payload` is the JSON published on MQTT and pushed on WebSocket
+   * (made on first read). The engine reuses the object for the entity's next estimate of the
+   * same kind: read it during the call.
+   */
   'estimate': { estimator: string; entity: string; kind: EstimateKind; topic: string; payload: string; tS: number };
   /**
    * A measurement was applied. `values` is the decoder's reused slot (copy it to keep it);

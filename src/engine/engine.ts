@@ -10,13 +10,14 @@ import { traceOf } from '../estimation/linalg/covariance-summary.js';
 import { EngineEvents } from './engine-events.js';
 import type { EngineCounters, EngineView, LatestEstimate, SensorSummary, TrackDetail, TrackSummary } from './engine-view.js';
 import type { EstimateKind } from './estimate-message.js';
+import { EstimateSnapshot } from './estimate-snapshot.js';
 import { buildEstimatorRuntime, type EstimatorRuntime, type RuntimeSensor } from './estimator-runtime.js';
 import type { HealthReason, HealthState } from './health-change.js';
 import { HealthLatch, rawSensorHealth, rawTrackHealth, worseOf } from './health-evaluator.js';
 import { entityKeyOf } from './topic-pattern.js';
 import { TrackRegistry, type TrackRecord } from './track-registry.js';
 
-/** Where estimates go (the MQTT adapter in the daemon, a file in replays). */
+/** Where estimates and health documents go (the MQTT adapter in the daemon). */
 export interface EstimatePublisher {
   publish(topic: string, payload: string, qos: 0 | 1, retain: boolean): void;
 }
@@ -47,10 +48,14 @@ export class Engine implements EngineView {
    */
   private lastNowMs = 0;
 
-  /** Builds every estimator from validated config (throws on a config the core cannot run). */
+  /**
+   * Builds every estimator from validated config (throws on a config the core cannot run).
+   * A null publisher (offline tools) publishes nothing, so no payload text is made unless a
+   * listener or latestEstimates reads it.
+   */
   constructor(
     configs: readonly DeepReadonly<EstimatorConfig>[],
-    private readonly publisher: EstimatePublisher,
+    private readonly publisher: EstimatePublisher | null,
     events?: EngineEvents,
   ) {
     // A reloaded engine takes over its predecessor's event bus, so subscribers stay attached.
@@ -148,19 +153,16 @@ export class Engine implements EngineView {
   private publishEstimate(est: Estimators, record: TrackRecord, kind: EstimateKind, tS: number, x?: Float64Array, P?: Float64Array): void {
     const rt = est.runtime;
     const track = record.track;
-    const payload = rt.serializer.serialize(
-      record.entity, kind, tS, x ?? track.x, P ?? track.P, track.coastS(tS), track.isStale(tS), record.trackHealth,
-    );
-    const topic = kind === 'smoothed' ? record.smoothedTopic! : record.estimateTopic;
-    this.emitEstimate(est, record, kind, topic, payload, tS);
-  }
-
-  private emitEstimate(est: Estimators, record: TrackRecord, kind: EstimateKind, topic: string, payload: string, tS: number): void {
-    const pub = est.runtime.config.publish;
-    record.latest[kind] = payload;
+    let snapshot = record.latest[kind];
+    if (snapshot === undefined) {
+      const topic = kind === 'smoothed' ? record.smoothedTopic! : record.estimateTopic;
+      snapshot = new EstimateSnapshot(rt.serializer, rt.name, record.entity, kind, topic, track.x.length);
+      record.latest[kind] = snapshot;
+    }
+    snapshot.capture(tS, x ?? track.x, P ?? track.P, track.coastS(tS), track.isStale(tS), record.trackHealth);
     this.produced += 1;
-    this.publisher.publish(topic, payload, pub.qos, pub.retain);
-    if (this.events.has('estimate')) this.events.emit('estimate', { estimator: est.runtime.name, entity: record.entity, kind, topic, payload, tS });
+    if (this.publisher !== null) this.publisher.publish(snapshot.topic, snapshot.payload, rt.config.publish.qos, rt.config.publish.retain);
+    if (this.events.has('estimate')) this.events.emit('estimate', snapshot);
   }
 
   private publishSmoothed(est: Estimators, record: TrackRecord): void {
@@ -240,12 +242,13 @@ export class Engine implements EngineView {
     change: { sensor: string | null; from: HealthState; to: HealthState; reasons: readonly HealthReason[]; tS: number },
   ): void {
     const event = { estimator: est.runtime.name, entity: record.entity, ...change };
-    this.publisher.publish(est.runtime.healthEventTopic, JSON.stringify(event), 1, false);
+    this.publisher?.publish(est.runtime.healthEventTopic, JSON.stringify(event), 1, false);
     this.events.emit('health:changed', event);
   }
 
   /** The retained per-entity health document: the track's state and each sensor's. */
   private publishHealth(est: Estimators, record: TrackRecord, nowS: number): void {
+    if (this.publisher === null) return;
     const sensors: Record<string, { state: HealthState; reasons: readonly HealthReason[] }> = {};
     record.sensorHealth.forEach((l, i) => { sensors[est.runtime.sensors[i]!.name] = { state: l.state, reasons: l.reasons }; });
     const doc = { estimator: est.runtime.name, entity: record.entity, t: nowS, state: record.trackLatch.state, reasons: record.trackLatch.reasons, sensors };
@@ -301,8 +304,8 @@ export class Engine implements EngineView {
     for (const est of this.estimators) {
       for (const record of est.registry.records()) {
         for (const kind of ['filtered', 'predicted', 'smoothed'] as const) {
-          const payload = record.latest[kind];
-          if (payload !== undefined) yield { estimator: est.runtime.name, entity: record.entity, kind, payload };
+          const latest = record.latest[kind];
+          if (latest !== undefined) yield { estimator: est.runtime.name, entity: record.entity, kind, payload: latest.payload };
         }
       }
     }

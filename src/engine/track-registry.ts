@@ -4,6 +4,7 @@
  */
 import type { Track } from '../estimation/track.js';
 import type { EstimateKind } from './estimate-message.js';
+import type { EstimateSnapshot } from './estimate-snapshot.js';
 import type { EstimatorRuntime } from './estimator-runtime.js';
 import type { HealthSummary } from './health-change.js';
 import { HealthLatch } from './health-evaluator.js';
@@ -18,8 +19,8 @@ export interface TrackRecord {
   readonly healthTopic: string;
   lastSeenMs: number;
   lastSmoothedTimeS: number;
-  /** Newest payload per kind, for WebSocket snapshots. */
-  latest: Partial<Record<EstimateKind, string>>;
+  /** Newest estimate per kind (for WebSocket snapshots), reused for the next one of that kind. */
+  latest: Partial<Record<EstimateKind, EstimateSnapshot>>;
   readonly trackLatch: HealthLatch;
   readonly sensorHealth: HealthLatch[];
   trackHealth: HealthSummary;

@@ -94,7 +94,7 @@ export async function runRecordCommand(argv: readonly string[], io: ToolIo): Pro
   const config = loaded.config;
   const subscriptions = new Map<string, 0 | 1 | 2>();
   try {
-    for (const s of new Engine(config.estimators, { publish: () => undefined }).subscriptions()) subscriptions.set(s.filter, s.qos);
+    for (const s of new Engine(config.estimators, null).subscriptions()) subscriptions.set(s.filter, s.qos);
   } catch (error) {
     io.stderr.write(`statecast record: the configuration cannot run: ${(error as Error).message}\n`);
     return EXIT_USAGE;

@@ -50,7 +50,7 @@ export class ReplaySession {
 
   /** Builds the engine and subscribes to its events (throws on a config the core cannot run). */
   constructor(private readonly options: ReplaySessionOptions) {
-    this.engine = new Engine(options.estimators, { publish: () => undefined });
+    this.engine = new Engine(options.estimators, null);
     this.seriesLeft = options.reportEntities;
     this.estimators = options.estimators.map((c) => new EstimatorReplay(this.engine.runtime(c.name)!));
     for (const e of this.estimators) this.byName.set(e.name, e);

@@ -60,6 +60,36 @@ describe('engine', () => {
     expect(last.time).toBe(new Date((T0 + 4) * 1000).toISOString());
   });
 
+  it('without a publisher, gives listeners and latestEstimates the payloads a publisher gets', () => {
+    const sink = new Capture();
+    const published = new Engine(labConfig().estimators, sink);
+    const offline = new Engine(labConfig().estimators, null);
+    const heard: string[] = [];
+    offline.events.on('estimate', (e) => heard.push(e.payload));
+    [20.1, 20.4, 19.8].forEach((c, k) => {
+      published.handleMessage('lab/a/temp', msg(c, T0 + k), (T0 + k) * 1000);
+      offline.handleMessage('lab/a/temp', msg(c, T0 + k), (T0 + k) * 1000);
+    });
+    expect(heard).toEqual(sink.out.map((o) => o.payload));
+    expect([...offline.latestEstimates()].map((l) => l.payload)).toEqual([sink.out.at(-1)!.payload]);
+    expect(offline.counters().estimatesProduced).toBe(3);
+  });
+
+  it('keeps each latest payload as it was when made', () => {
+    const engine = new Engine(labConfig({ publish: { mode: 'fixed-rate', rateHz: 1 } }).estimators, null);
+    engine.handleMessage('lab/a/temp', msg(20, T0), T0 * 1000);
+    engine.handleMessage('lab/b/temp', msg(30, T0), T0 * 1000);
+    // Both predictions are computed in the same scratch; the text is only made below.
+    engine.publishPredictions('lab', (T0 + 10) * 1000);
+    engine.handleMessage('lab/a/temp', msg(25, T0 + 11), (T0 + 11) * 1000);
+    const latest = new Map([...engine.latestEstimates()].map((l) => [l.entity, JSON.parse(l.payload)]));
+    expect([...latest.keys()]).toEqual(['a', 'b']);
+    expect(latest.get('a').kind).toBe('predicted');
+    expect(latest.get('a').t).toBe(T0 + 10);
+    expect(latest.get('a').state.temp).toBeCloseTo(20, 9);
+    expect(latest.get('b').state.temp).toBeCloseTo(30, 9);
+  });
+
   it('counts malformed payloads by reason and never touches a track', () => {
     const engine = new Engine(labConfig().estimators, new Capture());
     const reasons: string[] = [];
