@@ -4,6 +4,9 @@
  *   consumed by 1, then 2 replica processes (each a fresh stream and server), from their first
  *   message to their last. Beside each: the share of a core each replica and the server used
  *   over that window, and the CPU per message of the replicas and of the server.
+ * - server_ingest_cpu_us_per_msg: the server's CPU per message while the stream was loaded (acked
+ *   JetStream publishes through the mappings into the file store; the MQTT listener devices use
+ *   in production adds its own cost, not measured here).
  * - engine_cpu_us_per_msg: the same input through one fresh Engine in this process, no NATS: what
  *   the estimators cost alone, so the transport's share of a replica's CPU can be read off.
  * - failover_s: with 2 replicas consuming live traffic (1,000 msg/s), replica 1 is SIGKILLed
@@ -98,6 +101,8 @@ interface Throughput {
   readonly replicaCpuUsPerMsg: number;
   readonly serverCores: number;
   readonly serverCpuUsPerMsg: number;
+  /** The server's CPU per message while the stream was loaded (JetStream publish, acked, file store). */
+  readonly serverIngestCpuUsPerMsg: number;
   readonly coresBusy: number;
 }
 
@@ -108,7 +113,9 @@ async function throughput(replicas: number): Promise<Throughput> {
     const nc = await connect({ servers: server.url });
     await provision(await jetstreamManager(nc), scaleConfig(server.url));
     await nc.close();
+    const ingestCpu0 = processCpuS(server.pid());
     const total = await preload(server.url, ROUNDS);
+    const serverIngestCpuUsPerMsg = ((processCpuS(server.pid()) - ingestCpu0) * 1e6) / total;
     for (let k = 0; k < replicas; k++) children.push(spawnReplica({ url: server.url, scaleOut: scaleOut(replicas, k), reportMessages: false }));
     // The server's CPU from the first message handled: sampled when a replica first reports one.
     let serverCpu0 = Number.NaN;
@@ -128,6 +135,7 @@ async function throughput(replicas: number): Promise<Throughput> {
       replicaCpuUsPerMsg: (replicaCpuSum * 1e6) / total,
       serverCores: serverCpuS / wallS,
       serverCpuUsPerMsg: (serverCpuS * 1e6) / total,
+      serverIngestCpuUsPerMsg,
       coresBusy: (replicaCpuSum + serverCpuS) / wallS,
     };
   } finally {
@@ -229,6 +237,7 @@ async function measure(): Promise<Record<string, number>> {
     ...throughputFigures(2, two),
     'scale.ratio_2_to_1': two.msgsPerS / one.msgsPerS,
     'scale.engine_cpu_us_per_msg': engineUs,
+    'scale.server_ingest_cpu_us_per_msg': one.serverIngestCpuUsPerMsg,
     ...failoverFigures(failed),
     'scale.load_avg_1m_before': loadBefore,
   };
