@@ -22,6 +22,7 @@ export class EstimateSnapshot {
   private stale = true;
   private health: HealthSummary = { state: 'ok', reasons: [] };
   private text: string | null = null;
+  private readonly entityJson: string;
 
   /** Empty storage for an n-state estimator's estimates of one kind for one entity. */
   constructor(
@@ -34,6 +35,7 @@ export class EstimateSnapshot {
   ) {
     this.x = new Float64Array(n);
     this.P = new Float64Array(n * n);
+    this.entityJson = JSON.stringify(entity);
   }
 
   /** Records a new estimate (x, P are copied) and forgets the previous text. */
@@ -49,7 +51,7 @@ export class EstimateSnapshot {
 
   /** The estimate payload (see EstimateSerializer), built once per estimate. */
   get payload(): string {
-    this.text ??= this.serializer.serialize(this.entity, this.kind, this.tS, this.x, this.P, this.coastS, this.stale, this.health);
+    this.text ??= this.serializer.serializeEntityJson(this.entityJson, this.kind, this.tS, this.x, this.P, this.coastS, this.stale, this.health);
     return this.text;
   }
 }
