@@ -73,7 +73,7 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
   let subscribed = false;
   let wasConnected = false;
 
-  const batch = createSocketWriteBatch({ delayMs: options.flushDelayMs ?? 1, maxBytes: options.flushBytes ?? 16384 });
+  const batch = createSocketWriteBatch({ delayMs: options.flushDelayMs ?? 1, maxBytes: options.flushBytes ?? 16384, protocolVersion: broker.protocolVersion });
   // The stream whose 'drain' resumes the queue; mqtt.js makes a new one per connection.
   let drainWatched: NodeJS.EventEmitter | null = null;
   const socketOf = (c: MqttClient): SocketLike | undefined => c.stream as unknown as SocketLike | undefined;
@@ -88,7 +88,11 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
       const c = client;
       if (c === undefined) return;
       const stream = socketOf(c);
-      if (stream !== undefined && typeof stream.cork === 'function') batch.open(stream);
+      const batching = stream !== undefined && typeof stream.cork === 'function';
+      // QoS 0 has no state in the client (no packet id, no store, no acknowledgement), so it is
+      // encoded straight into the batch; mqtt.js keeps everything that needs its bookkeeping.
+      if (done === null && batching && stream.writable === true && batch.publishQos0(stream, topic, payload, retain)) return;
+      if (batching) batch.open(stream);
       // mqtt.js copies the options, so shared constants do; a QoS 0 publish needs no callback.
       if (done === null) c.publish(topic, payload, publishOptionsFor(qos, retain));
       else c.publish(topic, payload, publishOptionsFor(qos, retain), done);
@@ -264,6 +268,7 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
 
 /** The socket as the connection uses it: corkable, with Node's writable state. */
 interface SocketLike extends CorkableStream {
+  readonly writable?: boolean;
   readonly writableNeedDrain?: boolean;
 }
 

@@ -106,6 +106,34 @@ describe('mqtt connection', () => {
     expect(writes).toBe(1);
   });
 
+  it('publishes a retained QoS 0 message that a later subscriber receives as retained', async () => {
+    const topic = `${uniqueTopicPrefix('tank-farm')}/tank-c/estimate`;
+    const c = connection();
+    await c.start();
+    c.publish(topic, '{"levelM":2.25}', { qos: 0, retain: true });
+    const late = await connectRawClient(broker.url, { protocolVersion: broker.protocolVersion });
+    try {
+      // Retry the subscription until the broker has the message (it left within the batch delay).
+      type Received = { payload: string; retain: boolean; qos: number } | undefined;
+      let got: Received;
+      for (let attempt = 0; attempt < 50 && got === undefined; attempt += 1) {
+        const arrived = new Promise<Received>((resolve) => {
+          const timer = setTimeout(() => resolve(undefined), 100);
+          late.once('message', (_t, payload, packet) => {
+            clearTimeout(timer);
+            resolve({ payload: payload.toString(), retain: packet.retain, qos: packet.qos });
+          });
+        });
+        await late.subscribeAsync(topic, { qos: 1 });
+        got = await arrived;
+        if (got === undefined) await late.unsubscribeAsync(topic);
+      }
+      expect(got).toEqual({ payload: '{"levelM":2.25}', retain: true, qos: 0 });
+    } finally {
+      await endRawClient(late);
+    }
+  });
+
   it('holds messages published before the first connection and sends them once connected', async () => {
     const topic = `${uniqueTopicPrefix('tank-farm')}/tank-b/estimate`;
     await observer.subscribeAsync(topic, { qos: 1 });
