@@ -9,12 +9,18 @@ import { FIELD_MISSING, compileJsonFieldPath, lookupJsonField } from './json-fie
 import { readCovarianceInto, readSigmaInto } from './measurement-noise-reader.js';
 import { epochNumberToSeconds, parseIsoTimeStampS } from './time-stamp-parser.js';
 import { payloadTextOrReject } from './payload-text.js';
+import { resetDecodedMeasurement } from './decoded-measurement.js';
+import { FlatJsonScanner } from './flat-json-scanner.js';
 
 /** Stands for "JSON.parse threw"; no JSON text parses to a fresh symbol. */
 const NOT_JSON: unique symbol = Symbol('not-json');
 
-/** Compiles the 'json' format: field paths into the parsed payload, resolved once here. */
-export function compileJsonPayloadDecoder(spec: JsonDecoderSpec, dim: number): PayloadDecoder {
+/**
+ * Compiles the 'json' format: field paths into the parsed payload, resolved once here. With
+ * byteScan (the default) flat payloads take the byte scanner first; false keeps only the
+ * general path (for side-by-side checks and benchmarks: both give the same verdicts).
+ */
+export function compileJsonPayloadDecoder(spec: JsonDecoderSpec, dim: number, byteScan = true): PayloadDecoder {
   if (spec.values.length !== dim) {
     throw new PayloadDecoderSpecError(`json spec lists ${spec.values.length} values, but M is ${dim}`);
   }
@@ -28,8 +34,28 @@ export function compileJsonPayloadDecoder(spec: JsonDecoderSpec, dim: number): P
   const sigmaPath = optionalPath(spec.sigma);
   const covariancePath = optionalPath(spec.covariance);
   const sequencePath = optionalPath(spec.sequence);
+  // ISO time stamps are strings, which the byte scanner leaves to the general path: skip it.
+  const fast = !byteScan || covariancePath !== null || timeUnit === 'iso' ? null : flatScanner([...valuePaths, timePath, sigmaPath, sequencePath]);
+
+  /** The fast path's numbers through the same readers; false leaves the verdict to the general path. */
+  function decodeScanned(scanner: FlatJsonScanner, arrivalTimeS: number, out: DecodedMeasurement): boolean {
+    resetDecodedMeasurement(out, arrivalTimeS);
+    const v = scanner.values;
+    for (let i = 0; i < dim; i++) {
+      if (!Number.isFinite(v[i]!)) return false;
+      out.values[i] = v[i]!;
+    }
+    let k = dim;
+    if (timePath !== null && readTime(v[k++]!, timeUnit, out) !== null) return false;
+    if (sigmaPath !== null) {
+      if (readSigmaInto(v[k++]!, dim, out.covariance) !== null) return false;
+      out.hasCovariance = true;
+    }
+    return sequencePath === null || readSequence(v[k]!, out) === null;
+  }
 
   function decode(payload: Uint8Array, arrivalTimeS: number, out: DecodedMeasurement): boolean {
+    if (fast !== null && payload.byteLength <= maxBytes && fast.scan(payload) && decodeScanned(fast, arrivalTimeS, out)) return true;
     const text = payloadTextOrReject(payload, maxBytes, arrivalTimeS, out);
     if (text === null) return false;
     const root = parseJson(text);
@@ -61,6 +87,21 @@ export function compileJsonPayloadDecoder(spec: JsonDecoderSpec, dim: number): P
   }
 
   return { format: 'json', dim, maxBytes, decode };
+}
+
+/**
+ * The byte scanner when every path is a distinct single top-level key (see flat-json-scanner.ts),
+ * keys in the order values, time, sigma, sequence; null otherwise.
+ */
+function flatScanner(paths: readonly (JsonFieldPath | null)[]): FlatJsonScanner | null {
+  const keys: string[] = [];
+  for (const p of paths) {
+    if (p === null) continue;
+    const only = p.segments[0];
+    if (p.segments.length !== 1 || typeof only !== 'string' || keys.includes(only)) return null;
+    keys.push(only);
+  }
+  return FlatJsonScanner.forKeys(keys);
 }
 
 function optionalPath(path: string | undefined): JsonFieldPath | null {

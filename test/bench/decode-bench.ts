@@ -1,10 +1,13 @@
 /**
  * Payload-decoding benchmark: ns per decode of a typical tow-tractor GNSS fix with the compiled
- * decoder, side by side with the schema-library route (UTF-8 text, JSON.parse, zod safeParse)
- * and with bare UTF-8 + JSON.parse as the floor both share. Returns figures; never asserts on time.
+ * decoder (its byte scanner takes flat payloads like this one), side by side with the same
+ * decoder's general path (UTF-8 text, JSON.parse, field lookups), the schema-library route
+ * (UTF-8 text, JSON.parse, zod safeParse) and bare UTF-8 + JSON.parse, the floor of the last two.
+ * Returns figures; never asserts on time.
  */
 import { z } from 'zod';
 import { compilePayloadDecoder } from '../../src/engine/payload-decoder.js';
+import { compileJsonPayloadDecoder } from '../../src/engine/json-payload-decoder.js';
 import { createDecodedMeasurement } from '../../src/engine/decoded-measurement.js';
 import { nsPerCall } from './bench-timing.js';
 
@@ -28,17 +31,20 @@ const gnssSchema = z.object({
   seq: z.number().int().nonnegative(),
 });
 
-/** Figures in ns per decode: decode.compiled_ns, decode.zod_ns and decode.json_parse_ns. */
+/** Figures in ns per decode: decode.compiled_ns, decode.general_path_ns, decode.zod_ns and decode.json_parse_ns. */
 export async function benchDecode(): Promise<Record<string, number>> {
   const payloads = gnssPayloads();
-  const decoder = compilePayloadDecoder(
-    { format: 'json', values: ['lat', 'lon'], time: 't', timeUnit: 's', sigma: 'hacc', sequence: 'seq' },
-    2,
-  );
+  const spec = { format: 'json', values: ['lat', 'lon'], time: 't', timeUnit: 's', sigma: 'hacc', sequence: 'seq' } as const;
+  const decoder = compilePayloadDecoder(spec, 2);
+  const generalDecoder = compileJsonPayloadDecoder(spec, 2, false);
   const out = createDecodedMeasurement(2);
   let accepted = 0;
   const compiled = (i: number): void => {
     if (decoder.decode(payloads[i % PAYLOAD_COUNT]!, ARRIVAL_S, out)) accepted += 1;
+  };
+  let general = 0;
+  const viaGeneral = (i: number): void => {
+    if (generalDecoder.decode(payloads[i % PAYLOAD_COUNT]!, ARRIVAL_S, out)) general += 1;
   };
   let valid = 0;
   const viaZod = (i: number): void => {
@@ -52,20 +58,23 @@ export async function benchDecode(): Promise<Record<string, number>> {
   // Interleaved passes, keeping each route's best median, so a burst of load on the machine
   // penalizes no single route.
   let compiledNs = Infinity;
+  let generalNs = Infinity;
   let zodNs = Infinity;
   let parseNs = Infinity;
   for (let pass = 0; pass < PASSES; pass++) {
     compiledNs = Math.min(compiledNs, nsPerCall(compiled, ITERATIONS));
+    generalNs = Math.min(generalNs, nsPerCall(viaGeneral, ITERATIONS));
     zodNs = Math.min(zodNs, nsPerCall(viaZod, ITERATIONS));
     parseNs = Math.min(parseNs, nsPerCall(parseOnly, ITERATIONS));
   }
 
   // Every route must have accepted every payload, or the figures compare different work.
-  if (accepted === 0 || valid !== accepted || parsed !== accepted) {
-    throw new Error(`decode bench: routes disagree (compiled ${accepted}, zod ${valid}, parse ${parsed})`);
+  if (accepted === 0 || general !== accepted || valid !== accepted || parsed !== accepted) {
+    throw new Error(`decode bench: routes disagree (compiled ${accepted}, general ${general}, zod ${valid}, parse ${parsed})`);
   }
   return {
     'decode.compiled_ns': compiledNs,
+    'decode.general_path_ns': generalNs,
     'decode.zod_ns': zodNs,
     'decode.json_parse_ns': parseNs,
   };
