@@ -153,6 +153,9 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
       const online = JSON.stringify({ status: 'online', since: new Date(now()).toISOString() });
       c.publish(statusTopic, online, { qos: 1, retain: true });
       watchDrain(c);
+      // The batch already gathers small packets; Nagle's algorithm would hold each batch back
+      // until the broker acknowledged the previous one (mqtt.js leaves it on).
+      (c.stream as { setNoDelay?: (on: boolean) => unknown } | undefined)?.setNoDelay?.(true);
       queue.pump();
       events.emit('connect', { sessionPresent });
     });
