@@ -68,8 +68,9 @@ interface PassResult {
  * e2e.relay_msgs_per_s, e2e.msgs_per_s, e2e.ratio_to_relay, e2e.p50_ms, e2e.p99_ms,
  * e2e.daemon_cpu_us_per_msg; with the relay's and the harness's CPU per message, the CPU ratio
  * (relay ÷ daemon CPU per message: the throughput ratio if each had a core to itself, steadier
- * than the wall-clock ratio on a busy machine) and the count of messages that never arrived.
- * Empty when Mosquitto is not installed.
+ * than the wall-clock ratio on a busy machine), both processes' CPU per message and the relay's
+ * latency at the steady rate (the floor that the broker, the harness and the machine set), and
+ * the count of messages that never arrived. Empty when Mosquitto is not installed.
  */
 export async function benchE2e(): Promise<Record<string, number>> {
   const broker = await startMosquitto();
@@ -94,16 +95,17 @@ export async function benchE2e(): Promise<Record<string, number>> {
     children.push(relay);
     await relay.waitForOutput('ready', START_TIMEOUT_MS);
     const relayPass = await throughputPass(pub, sub, relay, RELAY_PREFIX, warmup, measured);
-    await relay.stop();
     report('relay', relayPass);
+    const relayLatency = await latencyPass('relay', pub, sub, relay, fleet, RELAY_PREFIX);
+    await relay.stop();
 
     const { daemon, metricsUrl } = await startDaemon(broker, sub, dir, children);
     const daemonPass = await throughputPass(pub, sub, daemon, ESTIMATE_PREFIX, warmup, measured);
     report('daemon', daemonPass);
     await reportDaemonCounters(metricsUrl, warmup.length + measured.length);
-    const latency = await latencyPass(pub, sub, fleet);
+    const latency = await latencyPass('daemon', pub, sub, daemon, fleet, ESTIMATE_PREFIX);
     await daemon.stop(profiling() ? 15_000 : 5_000);
-    return figures(relayPass, daemonPass, latency);
+    return figures(relayPass, daemonPass, relayLatency, latency);
   } finally {
     await Promise.all(children.map((c) => c.stop()));
     await Promise.all(clients.map((c) => c.endAsync(true)));
@@ -112,8 +114,9 @@ export async function benchE2e(): Promise<Record<string, number>> {
   }
 }
 
-function figures(relay: PassResult, daemon: PassResult, latency: LatencyRun): Record<string, number> {
-  const sorted = latency.samplesMs.sort();
+function figures(relay: PassResult, daemon: PassResult, relayLatency: SteadyRun, latency: SteadyRun): Record<string, number> {
+  const sorted = latency.run.samplesMs.sort();
+  const relaySorted = relayLatency.run.samplesMs.sort();
   return {
     'e2e.relay_msgs_per_s': relay.msgsPerS,
     'e2e.relay_cpu_us_per_msg': relay.cpuUsPerMsg,
@@ -122,17 +125,36 @@ function figures(relay: PassResult, daemon: PassResult, latency: LatencyRun): Re
     'e2e.daemon_cpu_us_per_msg': daemon.cpuUsPerMsg,
     'e2e.cpu_ratio_to_relay': relay.cpuUsPerMsg / daemon.cpuUsPerMsg,
     'e2e.harness_cpu_us_per_msg': daemon.harnessCpuUsPerMsg,
+    'e2e.relay_steady_cpu_us_per_msg': relayLatency.cpuUsPerMsg,
+    'e2e.daemon_steady_cpu_us_per_msg': latency.cpuUsPerMsg,
+    'e2e.relay_p50_ms': quantile(relaySorted, 0.5),
+    'e2e.relay_p99_ms': quantile(relaySorted, 0.99),
     'e2e.p50_ms': quantile(sorted, 0.5),
     'e2e.p99_ms': quantile(sorted, 0.99),
-    'e2e.lost_msgs': relay.lost + daemon.lost + latency.lost,
+    'e2e.lost_msgs': relay.lost + daemon.lost + relayLatency.run.lost + latency.run.lost,
   };
 }
 
-/** Publish → estimate latency at a steady rate, the daemon warm from the throughput pass. */
-async function latencyPass(pub: MqttClient, sub: MqttClient, fleet: YardFleet): Promise<LatencyRun> {
-  const run = await measureLatency(pub, sub, fleet, ESTIMATE_PREFIX, LATENCY_RATE_PER_S, LATENCY_DURATION_S, LATENCY_WARMUP_S);
-  progress(`latency: ${run.samplesMs.length} samples at ${run.achievedRatePerS.toFixed(0)} msg/s, ${run.lost} unanswered after 3 s`);
-  return run;
+/** A steady-rate pass: latencies, and the middle process's CPU per message over it. */
+interface SteadyRun {
+  readonly run: LatencyRun;
+  readonly cpuUsPerMsg: number;
+}
+
+/**
+ * Publish → arrival latency at a steady rate through `middle` (warm from its throughput pass),
+ * timed by the same code for the relay and the daemon so the two can be read side by side.
+ */
+async function latencyPass(
+  name: string, pub: MqttClient, sub: MqttClient, middle: BenchChild, fleet: YardFleet, prefix: string,
+): Promise<SteadyRun> {
+  const cpu0 = middle.cpuS();
+  const run = await measureLatency(pub, sub, fleet, prefix, LATENCY_RATE_PER_S, LATENCY_DURATION_S, LATENCY_WARMUP_S);
+  const cpuS = middle.cpuS() - cpu0;
+  const total = Math.round(LATENCY_RATE_PER_S * (LATENCY_DURATION_S + LATENCY_WARMUP_S));
+  const cpuUsPerMsg = (cpuS * 1e6) / total;
+  progress(`${name} latency: ${run.samplesMs.length} samples at ${run.achievedRatePerS.toFixed(0)} msg/s, ${run.lost} unanswered after 3 s, ${cpuUsPerMsg.toFixed(1)} µs CPU/msg`);
+  return { run, cpuUsPerMsg };
 }
 
 /** `count` rounds of one fix per vehicle from round `first`, 1 s apart. */
@@ -263,6 +285,8 @@ function daemonConfig(brokerUrl: string, httpPort: number): ConfigInput {
 
 async function connectClient(url: string, clientId: string, clients: MqttClient[]): Promise<MqttClient> {
   const client = await mqtt.connectAsync(url, { clientId, protocolVersion: 5, reconnectPeriod: 0 });
+  // A paced publish of one small packet must leave at once, not wait for the previous one's ACK.
+  (client.stream as { setNoDelay?: (on: boolean) => unknown }).setNoDelay?.(true);
   clients.push(client);
   return client;
 }

@@ -18,6 +18,8 @@ client.on('message', (topic, payload) => {
   client.publish(`bench/relay/${vehicle}/out`, JSON.stringify(value), { qos: 0 });
 });
 client.once('connect', () => {
+  // The same socket option as the daemon, so neither is timed with Nagle's delay and the other without.
+  (client.stream as { setNoDelay?: (on: boolean) => unknown }).setNoDelay?.(true);
   client.subscribe('yard/+/gnss', { qos: 0 }, (err) => {
     if (err) {
       process.stderr.write(`relay: subscribe failed: ${err.message}\n`);

@@ -134,12 +134,14 @@ export interface LatencyRun {
 
 /**
  * Publishes live fixes (t = the wall clock) at `ratePerS` for `warmupS + durationS`, cycling
- * through the fleet, and records publish → estimate latency for those sent after the warm-up.
- * Each estimate is matched to its fix by (vehicle, t): the estimate of a filtered update carries
- * the measurement's time.
+ * through the fleet, and records publish → arrival latency for those sent after the warm-up.
+ * Each arrival on `outPrefix` is matched to its fix by (vehicle, t), the vehicle being the third
+ * topic level of both the daemon's estimates and the relay's copies, and `t` a field of both
+ * payloads (the estimate of a filtered update carries the measurement's time), so the relay and
+ * the daemon are timed by the same code.
  */
 export async function measureLatency(
-  pub: MqttClient, sub: MqttClient, fleet: YardFleet, estimatePrefix: string,
+  pub: MqttClient, sub: MqttClient, fleet: YardFleet, outPrefix: string,
   ratePerS: number, durationS: number, warmupS: number,
 ): Promise<LatencyRun> {
   const sentAt = new Map<string, number>();
@@ -147,9 +149,9 @@ export async function measureLatency(
   const measureFromMs = performance.now() + warmupS * 1000;
   const onEstimate = (topic: string, payload: Buffer): void => {
     const receivedMs = performance.now();
-    if (!topic.startsWith(estimatePrefix)) return;
-    const { entity, t } = JSON.parse(payload.toString('utf8')) as { entity: string; t: number };
-    const key = `${entity}|${t}`;
+    if (!topic.startsWith(outPrefix)) return;
+    const { t } = JSON.parse(payload.toString('utf8')) as { t: number };
+    const key = `${topic.split('/')[2]}|${t}`;
     const at = sentAt.get(key);
     if (at === undefined) return;
     sentAt.delete(key);
