@@ -44,7 +44,10 @@ export interface MqttConnection {
    * final status the retained status is left as it was. Idempotent.
    */
   stop(options?: { finalStatus: boolean }): Promise<void>;
-  /** Queues a message; never throws. Dropped (and counted) past `maxQueuedOutgoing`. */
+  /**
+   * Sends (within the write batch) or queues a message; never throws. The oldest queued message
+   * is dropped (and counted) past `maxQueuedOutgoing` messages or `maxQueuedOutgoingBytes`.
+   */
   publish(topic: string, payload: string | Buffer, options?: MqttPublishOptions): void;
   readonly connected: boolean;
   /** Outgoing messages dropped because the bounded queue was full or stop() gave up on them. */
