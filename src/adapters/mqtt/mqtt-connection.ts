@@ -16,9 +16,7 @@ import mqtt, { type IConnackPacket, type ISubscriptionMap, type MqttClient } fro
 import { connackRefusal } from './connack-refusal.js';
 import { mqttClientOptions, OFFLINE_STATUS, readTlsMaterial, redactBrokerUrl } from './mqtt-client-options.js';
 import type { MqttConnectionOptions, MqttPublishOptions } from './mqtt-connection-options.js';
-import { createOutgoingQueue } from './outgoing-queue.js';
-import { publishOptionsFor } from './publish-options.js';
-import { createSocketWriteBatch, type CorkableStream } from './socket-write-batch.js';
+import { createClientSender } from './client-sender.js';
 import { reconnectDelayMs } from './reconnect-backoff.js';
 
 export type { MqttConnectionOptions, MqttLogger, MqttPublishOptions, MqttSubscription } from './mqtt-connection-options.js';
@@ -76,38 +74,12 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
   let subscribed = false;
   let wasConnected = false;
 
-  const batch = createSocketWriteBatch({ delayMs: options.flushDelayMs ?? 1, maxBytes: options.flushBytes ?? 16384, protocolVersion: broker.protocolVersion });
-  // The stream whose 'drain' resumes the queue; mqtt.js makes a new one per connection.
-  let drainWatched: NodeJS.EventEmitter | null = null;
-  const socketOf = (c: MqttClient): SocketLike | undefined => c.stream as unknown as SocketLike | undefined;
-  const queue = createOutgoingQueue({
-    maxQueued: options.maxQueuedOutgoing ?? 10000,
-    maxQueuedBytes: options.maxQueuedOutgoingBytes ?? 8 * 1024 * 1024,
-    maxInFlight: broker.maxInflight,
-    // A socket that asked for a drain has a full buffer: hold messages in our bounded queue
-    // rather than in mqtt.js's unbounded one, and resume on 'drain'.
-    canSend: () => client?.connected === true && stopping === undefined && socketOf(client)?.writableNeedDrain !== true,
-    send: (topic, payload, qos, retain, done) => {
-      const c = client;
-      if (c === undefined) return;
-      const stream = socketOf(c);
-      const batching = stream !== undefined && typeof stream.cork === 'function';
-      // QoS 0 has no state in the client (no packet id, no store, no acknowledgement), so it is
-      // encoded straight into the batch; mqtt.js keeps everything that needs its bookkeeping.
-      if (done === null && batching && stream.writable === true && batch.publishQos0(stream, topic, payload, retain)) return;
-      if (batching) batch.open(stream);
-      // mqtt.js copies the options, so shared constants do; a QoS 0 publish needs no callback.
-      if (done === null) c.publish(topic, payload, publishOptionsFor(qos, retain));
-      else c.publish(topic, payload, publishOptionsFor(qos, retain), done);
-      batch.written();
-    },
+  const { queue, batch, connected: sendWaiting } = createClientSender({
+    broker,
+    options,
+    client: () => client,
+    open: () => stopping === undefined,
   });
-  const watchDrain = (c: MqttClient): void => {
-    const stream = c.stream as unknown as NodeJS.EventEmitter | undefined;
-    if (stream === undefined || stream === drainWatched) return;
-    drainWatched = stream;
-    stream.on('drain', () => queue.pump());
-  };
   const emitError = (err: Error): void => {
     if (events.listenerCount('error') > 0) events.emit('error', err);
   };
@@ -155,11 +127,7 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
       if (!subscribed || !sessionPresent) subscribe(c);
       const online = JSON.stringify({ status: 'online', since: new Date(now()).toISOString() });
       c.publish(statusTopic, online, { qos: 1, retain: true });
-      watchDrain(c);
-      // The batch already gathers small packets; Nagle's algorithm would hold each batch back
-      // until the broker acknowledged the previous one (mqtt.js leaves it on).
-      (c.stream as { setNoDelay?: (on: boolean) => unknown } | undefined)?.setNoDelay?.(true);
-      queue.pump();
+      sendWaiting(c);
       events.emit('connect', { sessionPresent });
     });
     // mqtt.js schedules the next attempt with the current reconnectPeriod; raise it as each attempt begins.
@@ -270,12 +238,6 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
     },
   };
   return connection;
-}
-
-/** The socket as the connection uses it: corkable, with Node's writable state. */
-interface SocketLike extends CorkableStream {
-  readonly writable?: boolean;
-  readonly writableNeedDrain?: boolean;
 }
 
 function publishAsync(c: MqttClient, topic: string, payload: string): Promise<void> {
