@@ -78,8 +78,10 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
     broker,
     options,
     client: () => client,
-    open: () => stopping === undefined,
+    // While stopping, only the flush in stop() may still send what was queued before it.
+    open: () => stopping === undefined || draining,
   });
+  let draining = false;
   const emitError = (err: Error): void => {
     if (events.listenerCount('error') > 0) events.emit('error', err);
   };
@@ -200,10 +202,16 @@ export function createMqttConnection(options: MqttConnectionOptions): MqttConnec
         const c = client;
         if (c === undefined) return;
         if (c.connected) {
+          draining = true;
+          queue.pump();
           const flushed = queue.whenIdle().then(async () => {
+            draining = false;
+            // The estimates still in the batch go before the offline status.
+            batch.flush();
             if (stopOptions.finalStatus) await publishAsync(c, statusTopic, OFFLINE_STATUS);
           });
           await withTimeout(flushed, stopTimeoutMs);
+          draining = false;
         }
         batch.close();
         const abandoned = queue.clear();

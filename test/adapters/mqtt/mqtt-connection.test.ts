@@ -198,6 +198,27 @@ describe('mqtt connection', () => {
     expect(c.connected).toBe(false);
   });
 
+  it('sends on stop the messages still queued behind the in-flight bound, then the offline status', async () => {
+    const prefix = uniqueTopicPrefix('vehicle-yard');
+    const topic = `${prefix}/tug-06/estimate`;
+    const statusTopic = `${prefix}/status`;
+    await observer.subscribeAsync([topic, statusTopic], { qos: 1 });
+    const got: string[] = [];
+    const offline = new Promise<void>((resolve) => {
+      observer.on('message', (t, p) => {
+        if (t === topic) got.push(p.toString());
+        if (t === statusTopic && p.toString().includes('offline')) resolve();
+      });
+    });
+    const c = connection({ statusTopic, brokerOverrides: { maxInflight: 1 }, stopTimeoutMs: 3000 });
+    await c.start();
+    for (let seq = 0; seq < 20; seq += 1) c.publish(topic, String(seq), { qos: 1 });
+    await c.stop({ finalStatus: true });
+    await offline;
+    expect(got).toEqual(Array.from({ length: 20 }, (_, seq) => String(seq)));
+    expect(c.droppedCount).toBe(0);
+  });
+
   it('drops the oldest outgoing messages past its bound while offline and counts them', async () => {
     const topic = `${uniqueTopicPrefix('vehicle-yard')}/tug-02/estimate`;
     await observer.subscribeAsync(topic, { qos: 1 });
