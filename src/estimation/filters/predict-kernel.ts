@@ -62,15 +62,14 @@ function predictSource(n: number, rows: number[][]): string {
     out.push(`const y_${i} = ${sumOf(rows[i]!.map((j) => `${a(i, j)} * x_${j}`))};`);
     results.push(`y_${i}`);
   }
-  // Only the columns k that some row j ≥ i of A reads are needed from row i of T.
+  // Row by row, so that only one row of T is alive at a time (fewer register spills); only the
+  // columns k that some row j ≥ i of A reads are needed from row i of T.
   for (let i = 0; i < n; i++) {
     const needed = new Set<number>();
     for (let j = i; j < n; j++) for (const k of rows[j]!) needed.add(k);
     for (const k of [...needed].sort((u, v) => u - v)) {
       out.push(`const ${t(i, k)} = ${sumOf(rows[i]!.map((j) => `${a(i, j)} * ${p(j, k)}`))};`);
     }
-  }
-  for (let i = 0; i < n; i++) {
     for (let j = i; j < n; j++) {
       out.push(`const ${q(i, j)} = (${sumOf(rows[j]!.map((k) => `${t(i, k)} * ${a(j, k)}`))}) + Q[${i * n + j}];`);
       results.push(q(i, j));

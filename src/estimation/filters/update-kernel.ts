@@ -147,7 +147,8 @@ type Names = Record<'p' | 'u' | 'k' | 'lp' | 'w' | 'd' | 'h' | 'rs', (i: number,
 /**
  * The full Joseph form (I − KH) P (I − KH)ᵀ + K R Kᵀ into locals o_i_j (upper triangle):
  * LP = (I − KH) P = P − K Uᵀ (U = P Hᵀ, P symmetric), W = LP Hᵀ, D = K R − W, and
- * P⁺ = LP (I − KH)ᵀ + K R Kᵀ = LP + D Kᵀ. Only the entries of LP that P⁺ or W read are formed.
+ * P⁺ = LP (I − KH)ᵀ + K R Kᵀ = LP + D Kᵀ. Only the entries of LP that P⁺ or W read are formed,
+ * and row by row, so that few intermediate values are alive at once (fewer register spills).
  */
 function josephSource(n: number, m: number, rows: number[][], x: Names, out: string[]): void {
   const hCols = new Set<number>();
@@ -159,16 +160,10 @@ function josephSource(n: number, m: number, rows: number[][], x: Names, out: str
       for (let r = 0; r < m; r++) terms.push(`- ${x.k(i, r)} * ${x.u(j, r)}`);
       out.push(`const ${x.lp(i, j)} = ${terms.join(' ')};`);
     }
-  }
-  for (let i = 0; i < n; i++) {
     for (let r = 0; r < m; r++) out.push(`const ${x.w(i, r)} = ${sumOf(rows[r]!.map((c) => `${x.lp(i, c)} * ${x.h(r, c)}`))};`);
-  }
-  for (let i = 0; i < n; i++) {
     for (let c = 0; c < m; c++) {
       out.push(`const ${x.d(i, c)} = ${sumOf(Array.from({ length: m }, (_, r) => `${x.k(i, r)} * ${x.rs(r, c)}`))} - ${x.w(i, c)};`);
     }
-  }
-  for (let i = 0; i < n; i++) {
     for (let j = i; j < n; j++) {
       out.push(`const ${entry('o', i, j)} = ${x.lp(i, j)} + ${sumOf(Array.from({ length: m }, (_, c) => `${x.d(i, c)} * ${x.k(j, c)}`))};`);
     }
