@@ -52,7 +52,8 @@ export class UnscentedWorkspace {
   readonly propagated: Float64Array;
   /** Deviations f(χ_i) ⊖ ŷ through innovationInto, row i ((2n+1)×maxM). */
   readonly deviations: Float64Array;
-  readonly point: Float64Array;
+  /** Row i of sigmaPoints as its own array (views made once), handed to f without a copy. */
+  readonly pointViews: readonly Float64Array[];
   readonly mA: Float64Array;
   readonly mB: Float64Array;
   readonly mZero: Float64Array;
@@ -83,7 +84,7 @@ export class UnscentedWorkspace {
     this.scaledSqrt = new Float64Array(n * n);
     this.propagated = new Float64Array(this.count * maxM);
     this.deviations = new Float64Array(this.count * maxM);
-    this.point = new Float64Array(n);
+    this.pointViews = Array.from({ length: this.count }, (_, i) => this.sigmaPoints.subarray(i * n, (i + 1) * n));
     this.mA = new Float64Array(maxM);
     this.mB = new Float64Array(maxM);
     this.mZero = new Float64Array(maxM);
@@ -131,17 +132,15 @@ function differenceInto(f: UnscentedMap, a: Float64Array, b: Float64Array, out: 
  * back to the model's range by ŷ ⊖ 0, which wraps angles and leaves other components alone.
  */
 export function propagateSigmaPointsInto(f: UnscentedMap, uws: UnscentedWorkspace, meanOut: Float64Array): void {
-  const n = uws.n;
   const m = f.dim;
   const mm = uws.maxM;
-  const point = uws.point;
+  const views = uws.pointViews;
   const Y = uws.propagated;
   const dY = uws.deviations;
   const a = uws.mA;
   const b = uws.mB;
   for (let i = 0; i < uws.count; i++) {
-    for (let j = 0; j < n; j++) point[j] = uws.sigmaPoints[i * n + j]!;
-    f.measureInto(point, a);
+    f.measureInto(views[i]!, a);
     for (let r = 0; r < m; r++) Y[i * mm + r] = a[r]!;
   }
   for (let r = 0; r < m; r++) b[r] = Y[r]!;
