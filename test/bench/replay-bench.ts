@@ -2,9 +2,11 @@
  * Replay throughput: a 1,000,000-message vehicle-yard recording (measurements only, made once
  * by the simulator into a temp file), replayed end to end by `statecast replay` — reading and
  * parsing the file, the engine, and formatting every estimate line — with output to /dev/null.
- * Beside it, the same file through the bare Engine (read and handleMessage, nothing listening)
- * as the floor the tool cannot beat, and both per CPU second, the figure that holds still on a
- * shared machine. Prints figures; never asserts on time.
+ * Beside it, the same file through the bare Engine (read and handleMessage, no publisher,
+ * nothing listening) as the floor the tool cannot beat, and through an Engine with a publisher
+ * that takes every payload, as the daemon's engine does (its per-message cost before MQTT);
+ * all per CPU second too, the figure that holds still on a shared machine. Prints figures;
+ * never asserts on time.
  */
 import { mkdtemp, rm, stat, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -52,7 +54,8 @@ async function timed(fn: () => Promise<void>): Promise<{ wallS: number; cpuS: nu
 
 /**
  * replay.msgs_per_s (end to end) and per CPU second, the bare engine's figures on the same
- * file, replay.ratio_to_engine, replay.generate_s (simulator + file) and replay.file_mb.
+ * file, replay.ratio_to_engine, the publishing engine's per CPU second, replay.generate_s
+ * (simulator + file) and replay.file_mb.
  */
 export async function benchReplay(): Promise<Record<string, number>> {
   const dir = await mkdtemp(join(tmpdir(), 'statecast-replay-bench-'));
@@ -77,16 +80,23 @@ export async function benchReplay(): Promise<Record<string, number>> {
     });
     const parsed = parseConfig({ estimators: [yardEstimatorInput()] }, {});
     if (!parsed.ok) throw new Error('the yard estimator does not validate');
-    const engine = new Engine(parsed.config.estimators, { publish: () => undefined });
+    const engine = new Engine(parsed.config.estimators, null);
     const bare = await timed(async () => {
       await readRecording(recording, (t, topic, payload) => engine.handleMessage(topic, payload, t));
     });
+    let payloadBytes = 0;
+    const publishing = new Engine(parsed.config.estimators, { publish: (_topic, payload) => { payloadBytes += payload.length; } });
+    const withPublisher = await timed(async () => {
+      await readRecording(recording, (t, topic, payload) => publishing.handleMessage(topic, payload, t));
+    });
+    if (payloadBytes === 0) throw new Error('replay bench: the publishing engine published nothing');
     return {
       'replay.msgs_per_s': count / replay.wallS,
       'replay.msgs_per_cpu_s': count / replay.cpuS,
       'replay.engine_only_msgs_per_s': count / bare.wallS,
       'replay.engine_only_msgs_per_cpu_s': count / bare.cpuS,
       'replay.ratio_to_engine': bare.cpuS / replay.cpuS,
+      'replay.engine_publishing_msgs_per_cpu_s': count / withPublisher.cpuS,
       'replay.generate_s': generateS,
       'replay.file_mb': (await stat(recording)).size / 1e6,
     };
