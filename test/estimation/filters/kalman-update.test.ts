@@ -9,6 +9,9 @@ import { Matrix, inverse } from 'ml-matrix';
 import { FilterWorkspace } from '../../../src/estimation/filters/filter-workspace.js';
 import { kalmanUpdateInPlace } from '../../../src/estimation/filters/kalman-update.js';
 import type { MeasurementModel } from '../../../src/estimation/measurements/measurement-model.js';
+import { LinearMeasurement } from '../../../src/estimation/measurements/linear-measurement.js';
+import { ConstantVelocityModel } from '../../../src/estimation/models/constant-velocity-model.js';
+import { kalmanPredictInPlace } from '../../../src/estimation/filters/kalman-predict.js';
 import { randomCovariance, randomVector, relativeError, seededRandom, sparseMatrix } from './random-matrices.js';
 
 const TOL = 1e-10;
@@ -72,7 +75,8 @@ describe('kalmanUpdateInPlace', () => {
       const rand = seededRandom(21);
       for (let trial = 0; trial < 60; trial++) {
         const n = 1 + Math.floor(rand() * 8);
-        const m = 1 + Math.floor(rand() * Math.min(n, 4));
+        // m may exceed n (several components reading the same states): S stays PD through R.
+        const m = 1 + Math.floor(rand() * 4);
         const H = sparseMatrix(rand, m, n, 0.2 + 0.7 * rand());
         const R = randomCovariance(rand, m, 0.5);
         const ws = new FilterWorkspace(n, m, { generatedKernels });
@@ -180,4 +184,34 @@ describe('kalmanUpdateInPlace', () => {
     expect(ws.updateKernels[m]).toBeNull();
     expectMatches(ws, x, P, plain, n, m);
   });
+
+  it('runs a yard tractor filter over irregular gaps to the loop kernels\' results, gate refusals included', () => {
+    const model = new ConstantVelocityModel({ spectralDensity: 0.2 });
+    const fix = new LinearMeasurement({ C: [1, 0, 0, 0, 0, 1, 0, 0], dim: 2, stateDim: 4, Rv: [4, 0.5, 0.5, 4] });
+    const run = (generatedKernels: boolean): { verdicts: string[]; x: Float64Array; P: Float64Array } => {
+      const rand = seededRandom(99);
+      const ws = new FilterWorkspace(4, 2, { generatedKernels });
+      const x = new Float64Array(4);
+      const P = Float64Array.of(100, 0, 0, 0, 0, 100, 0, 0, 0, 0, 10, 0, 0, 0, 0, 10);
+      const verdicts: string[] = [];
+      let t = 0;
+      for (let k = 0; k < 300; k++) {
+        const dt = [0.5, 1, 1, 2.5, 0][Math.floor(rand() * 5)]!;
+        t += dt;
+        // Every 17th fix is an outlier the gate must refuse.
+        const outlier = k % 17 === 16 ? 80 : 0;
+        const y = Float64Array.of(3 * t + 2 * (rand() - 0.5) + outlier, -t + 2 * (rand() - 0.5));
+        expect(kalmanPredictInPlace(model, dt, x, P, ws)).toBe(true);
+        verdicts.push(kalmanUpdateInPlace(fix, y, fix.R, 13.8, x, P, ws));
+      }
+      return { verdicts, x, P };
+    };
+    const generated = run(true);
+    const loops = run(false);
+    expect(generated.verdicts).toEqual(loops.verdicts);
+    expect(generated.verdicts.filter((v) => v === 'gate').length).toBeGreaterThan(10);
+    expect(relativeError(generated.x, loops.x)).toBeLessThan(1e-9);
+    expect(relativeError(generated.P, loops.P)).toBeLessThan(1e-9);
+  });
 });
+
