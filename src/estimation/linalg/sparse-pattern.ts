@@ -4,7 +4,9 @@
  * Transitions and sensor matrices are mostly zeros (a constant-velocity A has 6 nonzeros of 16,
  * a position sensor's C has 2 of 8). Scanning the values each step costs rows·cols comparisons,
  * far less than the multiplications it saves, and can never go stale when A changes with dt.
- * The kernels hoist every array into a local: V8 then keeps them in registers.
+ * The kernels hoist every array into a local: V8 then keeps them in registers. The filters use
+ * them past the size limit of their generated straight-line kernels (kernel-cache.ts), which
+ * avoid the index indirection altogether.
  */
 export class RowPattern {
   /** Column indices of the nonzeros, row after row. */
