@@ -18,9 +18,10 @@ export type UpdateVerdict = 'applied' | 'gate' | 'numerics';
  * (I − KH) P (I − KH)ᵀ + K R Kᵀ, which stays symmetric PSD for any gain (Bucy & Joseph 1968;
  * Simon, Optimal State Estimation, 2006, eq. 5.19; from memory), computed on the upper triangle
  * and mirrored. Nothing is committed unless the result is finite and PSD. The NIS, ν and
- * diag(S) of the attempt are left in the workspace for health statistics, and S and K for
- * inspection. P must be symmetric. The work runs in a kernel generated for H's nonzero mask
- * (update-kernel.ts) or, past its size limit or for a non-finite H, in the loop kernels below.
+ * diag(S) of the attempt are left in the workspace for health statistics, and S, its Cholesky
+ * factor ws.L and K for inspection (the tuning tool reads log det S from ws.L). P must be
+ * symmetric. The work runs in a kernel generated for H's nonzero mask (update-kernel.ts) or,
+ * past its size limit or for a non-finite H, in the loop kernels below.
  */
 export function kalmanUpdateInPlace(
   model: MeasurementModel,
@@ -45,7 +46,7 @@ export function kalmanUpdateInPlace(
   const kernel = ws.hFinite ? ws.updateKernels[m]! : null;
   if (kernel === null) return updateByLoops(m, R, gateThreshold, x, P, ws);
   ws.nisOut[0] = Number.NaN;
-  const code = kernel(x, P, ws.H, R, ws.nu, gateThreshold, ws.S, ws.sDiagonal, ws.K, ws.nisOut);
+  const code = kernel(x, P, ws.H, R, ws.nu, gateThreshold, ws.S, ws.sDiagonal, ws.L, ws.K, ws.nisOut);
   ws.nis = ws.nisOut[0]!;
   return code === UPDATE_APPLIED ? 'applied' : code === UPDATE_GATE ? 'gate' : 'numerics';
 }

@@ -11,13 +11,14 @@ export const UPDATE_NUMERICS = 2;
 /**
  * A generated measurement update for one (n, m, nonzero mask of H). It reads x, P (upper
  * triangle; P must be symmetric), H, R and the innovation nu; writes S = H P Hᵀ + R (full) and
- * its diagonal, the NIS into nisOut[0] once S is factorized, and the gain K (n×m) once the gate
+ * its diagonal, S's Cholesky factor L (m×m, upper part zeroed) and the NIS into nisOut[0] once S
+ * is factorized, and the gain K (n×m) once the gate
  * passes; and commits x + Kν and the Joseph-form P into x and P only when both are finite and
  * P is PSD. Returns UPDATE_APPLIED, UPDATE_GATE or UPDATE_NUMERICS.
  */
 export type UpdateKernel = (
   x: Float64Array, P: Float64Array, H: Float64Array, R: Float64Array, nu: Float64Array, gate: number,
-  S: Float64Array, sDiagonal: Float64Array, K: Float64Array, nisOut: Float64Array,
+  S: Float64Array, sDiagonal: Float64Array, L: Float64Array, K: Float64Array, nisOut: Float64Array,
 ) => number;
 
 /** Beyond this many product terms the source grows past what V8 optimizes well: use loops. */
@@ -40,7 +41,7 @@ export function updateKernelFor(n: number, m: number, mask: Uint8Array): UpdateK
   if (2 * n * nnz + 2 * n * n * m + (n * n * n) / 6 > MAX_TERMS) return null;
   return compiledKernel<UpdateKernel>(
     `update:${n}:${m}:${maskKey(mask, m * n)}`,
-    ['x', 'P', 'H', 'R', 'nu', 'gate', 'S', 'sDiagonal', 'K', 'nisOut'],
+    ['x', 'P', 'H', 'R', 'nu', 'gate', 'S', 'sDiagonal', 'L', 'K', 'nisOut'],
     () => updateSource(n, m, rows),
   );
 }
@@ -93,11 +94,16 @@ function updateSource(n: number, m: number, rows: number[][]): string {
       if (i === j) {
         out.push(`const g_${i} = ${terms.join(' ')};`);
         out.push(`if (!(g_${i} > 0)) return 2;`);
-        out.push(`const inv_${i} = 1 / Math.sqrt(g_${i});`);
+        out.push(`const ld_${i} = Math.sqrt(g_${i});`);
+        out.push(`const inv_${i} = 1 / ld_${i};`);
       } else {
         out.push(`const ${l(i, j)} = (${terms.join(' ')}) * inv_${j};`);
       }
     }
+  }
+  // The factor itself is part of the result: tools read log det S from its diagonal.
+  for (let i = 0; i < m; i++) {
+    for (let j = 0; j < m; j++) out.push(`L[${i * m + j}] = ${j < i ? l(i, j) : j === i ? `ld_${i}` : '0'};`);
   }
   for (let i = 0; i < m; i++) {
     const terms = [`nu_${i}`];

@@ -65,6 +65,10 @@ function expectMatches(ws: FilterWorkspace, x: Float64Array, P: Float64Array, pl
   expect(relativeError(ws.K.subarray(0, n * m), plain.K)).toBeLessThan(TOL);
   expect(relativeError(ws.S.subarray(0, m * m), plain.S)).toBeLessThan(TOL);
   expect(Math.abs(ws.nis - plain.nis)).toBeLessThan(TOL * Math.max(1, plain.nis));
+  // ws.L is S's lower Cholesky factor, upper part zeroed: L Lᵀ reproduces S.
+  const L = Matrix.from1DArray(m, m, Array.from(ws.L.subarray(0, m * m)));
+  for (let i = 0; i < m; i++) for (let j = i + 1; j < m; j++) expect(L.get(i, j)).toBe(0);
+  expect(relativeError(L.mmul(L.transpose()).to1DArray(), plain.S)).toBeLessThan(TOL);
   for (let i = 0; i < n; i++) for (let j = 0; j < i; j++) expect(P[i * n + j]).toBe(P[j * n + i]);
 }
 
