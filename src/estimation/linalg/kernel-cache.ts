@@ -12,14 +12,29 @@
 const MAX_ENTRIES = 64;
 const compiled = new Map<string, unknown>();
 
+/** Set once a compile was refused: the host forbids code from strings, so stop trying. */
+let codeGenerationRefused = false;
+
 /**
  * The function for `key`, compiled on first use from `params` and the body `build()` returns
- * (strict mode is added here). Compiling happens only when a structure is first seen.
+ * (strict mode is added here), or null when the host forbids code generation from strings
+ * (`--disallow-code-generation-from-strings`, a locked-down embedder): callers then use their
+ * loop kernels, slower but the same arithmetic. Compiling happens only when a structure is first
+ * seen.
  */
-export function compiledKernel<F>(key: string, params: readonly string[], build: () => string): F {
+export function compiledKernel<F>(key: string, params: readonly string[], build: () => string): F | null {
   const hit = compiled.get(key);
   if (hit !== undefined) return hit as F;
-  const fn = new Function(...params, `'use strict';\n${build()}`) as F;
+  if (codeGenerationRefused) return null;
+  let fn: F;
+  try {
+    fn = new Function(...params, `'use strict';\n${build()}`) as F;
+  } catch (error) {
+    // Only the host's refusal (an EvalError) means "use loops"; a bad source is our bug.
+    if (!(error instanceof EvalError)) throw error;
+    codeGenerationRefused = true;
+    return null;
+  }
   if (compiled.size >= MAX_ENTRIES) {
     const oldest = compiled.keys().next();
     if (oldest.done !== true) compiled.delete(oldest.value);

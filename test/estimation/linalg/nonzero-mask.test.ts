@@ -30,7 +30,7 @@ describe('nonzero masks', () => {
 
 describe('compiledKernel', () => {
   it('compiles once per key and stays bounded', () => {
-    const f = compiledKernel<(a: number) => number>('test:double', ['a'], () => 'return 2 * a;');
+    const f = compiledKernel<(a: number) => number>('test:double', ['a'], () => 'return 2 * a;')!;
     expect(f(4)).toBe(8);
     let builds = 0;
     const g = compiledKernel<(a: number) => number>('test:double', ['a'], () => { builds++; return 'return 0;'; });
