@@ -24,7 +24,7 @@ export class PartitionIntake {
   /** True once fewer than readyPendingBelow messages wait (false again after a disconnect). */
   caughtUp = false;
   private consumer: PartitionConsumer | null = null;
-  /** When a message or a new consumer last told us the pending count (ms, Date.now). */
+  /** When a message or a new consumer last told us the pending count (ms, the node's clock). */
   private lastToldMs = 0;
   /** Set by a disconnect until restart() has a new consumer: until then nothing is caught up. */
   private restartPending = false;
@@ -47,7 +47,7 @@ export class PartitionIntake {
     });
     this.consumer = consumer;
     this.restartPending = false;
-    this.lastToldMs = Date.now();
+    this.lastToldMs = this.ctx.now();
     try {
       await consumer.start();
     } catch (err) {
@@ -76,7 +76,7 @@ export class PartitionIntake {
   private onMessage(msg: JsMsg): void {
     const c = this.ctx;
     this.seq = msg.seq;
-    this.lastToldMs = Date.now();
+    this.lastToldMs = this.ctx.now();
     const routed = c.router.route(msg.subject);
     if (routed === null) {
       c.counters.unrouted += 1;
@@ -104,7 +104,7 @@ export class PartitionIntake {
 
   /** True when not caught up and no message has told the pending count for STALE_AFTER_MS. */
   get stale(): boolean {
-    return !this.caughtUp && this.consumer !== null && !this.restartPending && Date.now() - this.lastToldMs >= STALE_AFTER_MS;
+    return !this.caughtUp && this.consumer !== null && !this.restartPending && this.ctx.now() - this.lastToldMs >= STALE_AFTER_MS;
   }
 
   /** The connection dropped: what we knew about pending no longer holds. */
