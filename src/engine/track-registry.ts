@@ -28,6 +28,11 @@ export interface TrackRecord {
   numericsSeen: number;
   /** Per sensor, when a decodable message for this entity last arrived (epoch ms; creation time at first). */
   readonly lastHeardMs: Float64Array;
+  /**
+   * Creation order, fixed for the record's life: a sliced health tick evaluates the records
+   * whose healthSlot modulo the slice count matches, so each is evaluated once per interval.
+   */
+  readonly healthSlot: number;
 }
 
 const OK: HealthSummary = Object.freeze({ state: 'ok', reasons: Object.freeze([]) as readonly never[] });
@@ -36,6 +41,7 @@ const OK: HealthSummary = Object.freeze({ state: 'ok', reasons: Object.freeze([]
 export class TrackRegistry {
   private readonly byEntity = new Map<string, TrackRecord>();
   private readonly scratch = new Map<number, { x: Float64Array; P: Float64Array }>();
+  private nextHealthSlot = 0;
 
   /** Creates an empty registry holding at most maxTracks tracks. */
   constructor(readonly maxTracks: number) {}
@@ -77,6 +83,7 @@ export class TrackRegistry {
       trackHealth: OK,
       numericsSeen: track.counters.numericRefusals,
       lastHeardMs: new Float64Array(rt.sensors.length).fill(nowMs),
+      healthSlot: this.nextHealthSlot++,
     };
     this.byEntity.set(entity, record);
     return record;

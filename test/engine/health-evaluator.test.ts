@@ -58,6 +58,27 @@ describe('health latch', () => {
   it('enters the least severe state the streak sustained', () => {
     expect(feedLatch(new HealthLatch(), ['failed', 'degraded', 'failed'])).toEqual(['ok', 'ok', 'degraded']);
   });
+
+  it('keeps no reference to the reasons it is fed, and keeps its own while they hold', () => {
+    const latch = new HealthLatch();
+    const scratch: HealthReason[] = [];
+    for (let k = 0; k < 3; k++) {
+      scratch.length = 0;
+      scratch.push('silent', 'gate-rate');
+      latch.feed('degraded', scratch, thresholds());
+    }
+    const held = latch.reasons;
+    scratch.length = 0;
+    scratch.push('silent', 'gate-rate');
+    latch.feed('degraded', scratch, thresholds());
+    expect(latch.reasons).toBe(held);
+    scratch.length = 0;
+    scratch.push('nis-high');
+    expect(held).toEqual(['silent', 'gate-rate']);
+    latch.feed('degraded', scratch, thresholds());
+    expect(latch.reasons).toEqual(['nis-high']);
+    expect(latch.reasons).not.toBe(scratch);
+  });
 });
 
 describe('raw health reasons', () => {
