@@ -9,6 +9,7 @@ import { benchDecode } from './decode-bench.js';
 import { benchReplay } from './replay-bench.js';
 import { benchE2e } from './e2e-bench.js';
 import { benchScale } from './scale-bench.js';
+import { benchMetrics } from './metrics-bench.js';
 
 type Section = () => Promise<Record<string, number>> | Record<string, number>;
 
@@ -16,6 +17,7 @@ const SECTIONS: Record<string, Section> = {
   core: benchCore,
   decode: benchDecode,
   e2e: benchE2e,
+  metrics: benchMetrics,
   replay: benchReplay,
   scale: benchScale,
 };
@@ -28,6 +30,7 @@ const TARGETS: Record<string, string> = {
   'replay.msgs_per_s': '>= 300000',
   'e2e.ratio_to_relay': '>= 0.5',
   'e2e.p99_ms': '<= 5',
+  'metrics.scrape_ms_10k_tracks': '<= 50',
 };
 
 function parseArgs(argv: readonly string[]): { json?: string; only?: string[] } {

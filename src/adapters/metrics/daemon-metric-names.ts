@@ -5,9 +5,10 @@
  * but are prom-client's, so they are not listed here.
  *
  * Label cardinality: `estimator`, `sensor`, `kind`, `component`, `reason`, `to`, `late` and
- * `quantile` take values from the configuration or from closed sets; `entity` is bounded by each
- * estimator's entity cap, so a per-entity gauge holds at most (sum of entity caps) × (sensors per
- * estimator) × (measurement components) series.
+ * `quantile` take values from the configuration or from closed sets; `entity` is bounded per
+ * estimator by `http.metrics.maxEntitiesPerEstimator` (default 1,000; the entities left out are
+ * counted in `statecast_metrics_entities_omitted`), so a per-entity gauge holds at most
+ * (estimators × that cap) × (sensors per estimator) × (measurement components) series.
  */
 export const DAEMON_METRIC_NAMES = [
   'statecast_measurements_received_total',
@@ -22,6 +23,7 @@ export const DAEMON_METRIC_NAMES = [
   'statecast_trace_p',
   'statecast_coast_seconds',
   'statecast_health_state',
+  'statecast_metrics_entities_omitted',
   'statecast_broker_connected',
   'statecast_event_loop_lag_seconds',
   'statecast_ws_clients',

@@ -48,6 +48,11 @@ export interface DaemonMetricsOptions {
   readonly wsDroppedTotal?: () => number;
   /** Outgoing MQTT messages dropped by the bounded publish queue since start; `statecast_mqtt_dropped_total` only when given. */
   readonly mqttDroppedTotal?: () => number;
+  /**
+   * Entities per estimator that get per-entity series (default 1,000, as `http.metrics`): failed,
+   * then degraded, then by name; the rest are counted in `statecast_metrics_entities_omitted`.
+   */
+  readonly maxEntitiesPerEstimator?: number;
   /** Also register prom-client's process metrics with prefix `statecast_` (default true). */
   readonly defaultMetrics?: boolean;
   /** Sampling period of the event-loop delay monitor in ms (default 10). */
@@ -61,6 +66,9 @@ export interface DaemonMetrics {
   /** Unsubscribes and stops the sampler; idempotent. Registered metrics stay on the registry. */
   stop(): void;
 }
+
+/** The default of `maxEntitiesPerEstimator` (the config's `http.metrics.maxEntitiesPerEstimator`). */
+export const DEFAULT_MAX_ENTITIES_PER_ESTIMATOR = 1000;
 
 const REJECTION_LABEL_SET: ReadonlySet<string> = new Set(MEASUREMENT_REJECTION_LABELS);
 const HEALTH_REASON_SET: ReadonlySet<string> = new Set(HEALTH_REASONS);
@@ -114,7 +122,7 @@ export function createDaemonMetrics(options: DaemonMetricsOptions): DaemonMetric
     registry,
   }).cells;
 
-  registerTrackGauges(registry, view);
+  registerTrackGauges(registry, view, options.maxEntitiesPerEstimator ?? DEFAULT_MAX_ENTITIES_PER_ESTIMATOR);
   const loopLag = registerEventLoopLagGauge(registry, options.eventLoopResolutionMs);
   registerConnectionGauges(options);
 

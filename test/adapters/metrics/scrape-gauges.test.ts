@@ -80,6 +80,40 @@ describe('scrape-time gauges', () => {
     expect(view.listCalls - before).toBe(1);
   });
 
+  it('exposes at most maxEntitiesPerEstimator entities per estimator, non-ok first, then by name', async () => {
+    const { view, scrape } = setupMetrics({ maxEntitiesPerEstimator: 2 });
+    view.tracks.push(fakeTrack('tanks', 'tank-0'), fakeTrack('tanks', 'tank-z', { health: { state: 'failed', reasons: ['stale'] } }));
+    const f = await scrape();
+    const entities = samplesOf(f, 'statecast_trace_p', { estimator: 'tanks' }).map((s) => s.labels['entity']);
+    // tank-z failed, tank-b degraded; tank-0 and tank-a are ok and left out.
+    expect(entities.sort()).toEqual(['tank-b', 'tank-z']);
+    expect(sampleValue(f, 'statecast_metrics_entities_omitted', { estimator: 'tanks' })).toBe(2);
+    expect(sampleValue(f, 'statecast_metrics_entities_omitted', { estimator: 'yard' })).toBe(0);
+  });
+
+  it('fills the cap by entity name among healthy entities', async () => {
+    const { view, scrape } = setupMetrics({ maxEntitiesPerEstimator: 2 });
+    view.tracks[1] = fakeTrack('tanks', 'tank-b');
+    view.tracks.push(fakeTrack('tanks', 'tank-0'));
+    const entities = samplesOf(await scrape(), 'statecast_health_state', { estimator: 'tanks', sensor: '' }).map((s) => s.labels['entity']);
+    expect(entities.sort()).toEqual(['tank-0', 'tank-a']);
+  });
+
+  it('keeps HELP and TYPE of the per-entity families when the cap is 0', async () => {
+    const { scrape } = setupMetrics({ maxEntitiesPerEstimator: 0 });
+    const f = await scrape();
+    expect(f.get('statecast_trace_p')?.type).toBe('gauge');
+    expect(f.get('statecast_trace_p')?.samples).toEqual([]);
+    expect(sampleValue(f, 'statecast_metrics_entities_omitted', { estimator: 'tanks' })).toBe(2);
+  });
+
+  it('gives the same per-entity samples through getMetricsAsJSON', async () => {
+    const { registry, scrape } = setupMetrics();
+    const text = samplesOf(await scrape(), 'statecast_innovation_ratio', {});
+    const json = (await registry.getMetricsAsJSON()).find((m) => m.name === 'statecast_innovation_ratio');
+    expect(json?.values.map((v) => ({ labels: v.labels, value: v.value }))).toEqual(text.map((s) => ({ labels: s.labels, value: s.value })));
+  });
+
   it('follows the broker connection callback', async () => {
     const { scrape, broker } = setupMetrics();
     expect(sampleValue(await scrape(), 'statecast_broker_connected')).toBe(1);
