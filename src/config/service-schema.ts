@@ -75,6 +75,15 @@ export const websocketSchema = z.strictObject({
 });
 
 /**
+ * The /metrics exposition. `maxEntitiesPerEstimator` bounds the label cardinality of the
+ * per-entity series: past it, entities in a non-ok health state are exposed first, then by name,
+ * and `statecast_metrics_entities_omitted` counts the rest. 0 exposes no per-entity series.
+ */
+export const metricsSchema = z.strictObject({
+  maxEntitiesPerEstimator: z.number().int().min(0).default(1000),
+});
+
+/**
  * The HTTP server (API, dashboard, metrics, WebSocket). Binding to a non-loopback `host` needs
  * `auth.token`, or `allowInsecureBind: true` to accept an open API on the network.
  */
@@ -83,6 +92,7 @@ export const httpSchema = z.strictObject({
   port: portSchema.default(8470),
   allowInsecureBind: z.boolean().default(false),
   websocket: websocketSchema.prefault({}),
+  metrics: metricsSchema.prefault({}),
 });
 
 /** Optional bearer token for the reset API and the WebSocket (at least 16 characters). */
