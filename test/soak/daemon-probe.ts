@@ -32,6 +32,11 @@ export interface MetricsProbe {
   readonly rejected: number;
   readonly rejectedByReason: Readonly<Record<string, number>>;
   readonly estimatesPublished: number;
+  /**
+   * `statecast_mqtt_dropped_total`: outgoing messages (estimates and health, all estimators)
+   * the daemon's bounded publish queue dropped; NaN when the daemon does not export it.
+   */
+  readonly mqttDropped: number;
   /** How long the scrape took (request to last byte) and its size. */
   readonly scrapeMs: number;
   readonly scrapeBytes: number;
@@ -61,6 +66,12 @@ function counter(text: string, name: string, estimator: string): { total: number
   return { total: lines.reduce((s, l) => s + sampleValue(l), 0), lines };
 }
 
+/** The value of a family without labels, NaN when absent. */
+function unlabelledValue(text: string, name: string): number {
+  const line = familyLines(text, name).find((l) => l.startsWith(`${name} `));
+  return line === undefined ? Number.NaN : sampleValue(line);
+}
+
 /** Scrapes `${httpUrl}metrics` and cuts out the soak's figures for `estimator`. */
 export async function probeMetrics(httpUrl: string, estimator: string): Promise<MetricsProbe> {
   const started = performance.now();
@@ -85,6 +96,7 @@ export async function probeMetrics(httpUrl: string, estimator: string): Promise<
     rejected: rejected.total,
     rejectedByReason,
     estimatesPublished: counter(text, 'statecast_estimates_published_total', estimator).total,
+    mqttDropped: unlabelledValue(text, 'statecast_mqtt_dropped_total'),
     scrapeMs,
     scrapeBytes: text.length,
   };

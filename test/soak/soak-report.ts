@@ -93,8 +93,9 @@ export function formatSoakReport(r: SoakResult): string {
     v.estimatesMissing === 0
       ? `  estimate delivery: every produced estimate reached the subscriber`
       : `  estimate delivery: ${v.estimatesMissing} of ${r.daemon.estimatesPublished} produced estimates did not reach the subscriber; ` +
-        `the broker received about ${f0(v.estimatesAtBroker)} of them (so about ${f0(r.daemon.estimatesPublished - v.estimatesAtBroker)} were shed ` +
-        `inside the daemon, which no metric counts) and dropped ${f0(r.broker.publishesDropped)} messages`,
+        `the broker received about ${f0(v.estimatesAtBroker)} of them (so about ${f0(r.daemon.estimatesPublished - v.estimatesAtBroker)} never left ` +
+        `the daemon; its outgoing queue counted ${f0(r.daemon.mqttDropped)} drops of estimates and health messages in statecast_mqtt_dropped_total) ` +
+        `and dropped ${f0(r.broker.publishesDropped)} messages`,
     `  publish→estimate latency (${r.latencyMs.count} matched): p50 ${f1(r.latencyMs.p50)} ms, p90 ${f1(r.latencyMs.p90)} ms, p99 ${f1(r.latencyMs.p99)} ms, max ${f1(r.latencyMs.max)} ms`,
     `  /metrics scrape (every ${o.scrapeEveryS} s): up to ${f0(Math.max(...r.samples.map((x) => x.scrapeMs).filter(Number.isFinite)))} ms for ${f1(Math.max(...r.samples.map((x) => x.scrapeMiB).filter(Number.isFinite)))} MiB`,
     `  event-loop lag: worst interval p99 after warm-up ${f1(v.lagP99WorstMs)} ms, max ${f1(v.lagMaxMs)} ms   [target: p99 < 50 ms — ${mark(v.lagP99WorstMs < 50)}]`,
