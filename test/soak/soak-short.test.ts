@@ -45,12 +45,13 @@ async function runShortSoak(): Promise<{ code: number | null; output: string; re
   return { code, output, ...parsed };
 }
 
-// At 20,000 measurements/s the daemon (about 100 µs of CPU per measurement on this 2-core
-// machine, see issue 3's closing note) cannot keep up, so this check fails today for a real
-// reason, not a flaky one. It stays in the tree, run on demand with STATECAST_SOAK_SHORT=1
-// (and `npm run soak` prints the figures), until the daemon's per-message cost comes down.
-const soakRequested = process.env['STATECAST_SOAK_SHORT'] === '1';
-if (!soakRequested) console.warn('short soak not requested (STATECAST_SOAK_SHORT=1 runs it): skipped');
+// The CI soak: runs wherever Mosquitto is installed (STATECAST_SOAK_SHORT=0 skips it on a
+// machine that must not spend two minutes on it). It used to run only on request,
+// because the daemon (then about 100 µs of CPU per measurement) lost measurements at this rate;
+// at about 45-60 µs it keeps every accepted measurement, while the lag and RSS targets are read
+// from the printout.
+const soakRequested = process.env['STATECAST_SOAK_SHORT'] !== '0';
+if (!soakRequested) console.warn('short soak turned off (STATECAST_SOAK_SHORT=0): skipped');
 
 describe.skipIf(!hasMosquitto || !soakRequested)('soak (30 s, 10,000 tractors)', () => {
   it('loses no accepted measurement and the daemon stays up', { timeout: 900_000 }, async () => {
