@@ -12,6 +12,7 @@ import type { Estimator } from '../estimation/estimator.js';
 import { createCheckpointStore, type CheckpointStore } from '../adapters/checkpoint/checkpoint-store.js';
 import { checkpointDocument, restoreFromDocument } from '../adapters/checkpoint/checkpoint-document.js';
 import { configFingerprint } from '../adapters/checkpoint/config-fingerprint.js';
+import { encodeCheckpointInSlices } from '../adapters/checkpoint/sliced-checkpoint-encoder.js';
 import { modelStateNames } from '../config/model-schema.js';
 import { measurementDimension } from '../config/measurement-schema.js';
 
@@ -102,11 +103,15 @@ export class CheckpointKeeper {
       await this.saving;
       if (why === 'periodic') return;
     }
-    const doc = checkpointDocument(this.handle.engine.tracks(), structuralFingerprint(this.config));
-    this.saving = store.save(doc).then(
-      () => this.log.debug({ why }, 'checkpoint written'),
-      (err: unknown) => this.log.error({ err, why }, 'CHECKPOINT WRITE FAILED: estimation goes on, but a restart would cold-start the filters'),
-    ).finally(() => { this.saving = null; });
+    // Encoded in slices between event-loop turns: at 10,000 tracks one synchronous pass held
+    // the loop for seconds (see sliced-checkpoint-encoder.ts).
+    this.saving = encodeCheckpointInSlices(this.handle.engine.tracks(), structuralFingerprint(this.config))
+      .then((bytes) => store.saveEncoded(bytes))
+      .then(
+        () => this.log.debug({ why }, 'checkpoint written'),
+        (err: unknown) => this.log.error({ err, why }, 'CHECKPOINT WRITE FAILED: estimation goes on, but a restart would cold-start the filters'),
+      )
+      .finally(() => { this.saving = null; });
     await this.saving;
   }
 }

@@ -12,7 +12,8 @@
 import { createHash } from 'node:crypto';
 import type { DocumentIssue } from './checkpoint-document.js';
 
-const TRAILER = '\n#sha256:';
+/** What starts the trailer line after the body. */
+export const CHECKPOINT_TRAILER = '\n#sha256:';
 const HEX_LENGTH = 64;
 
 function sha256Hex(bytes: Uint8Array): string {
@@ -22,16 +23,16 @@ function sha256Hex(bytes: Uint8Array): string {
 /** The file bytes for a document (throws TypeError only for a value JSON cannot hold, e.g. a BigInt). */
 export function encodeCheckpointFile(doc: unknown): Uint8Array {
   const body = Buffer.from(JSON.stringify(doc), 'utf8');
-  return Buffer.concat([body, Buffer.from(`${TRAILER}${sha256Hex(body)}\n`, 'utf8')]);
+  return Buffer.concat([body, Buffer.from(`${CHECKPOINT_TRAILER}${sha256Hex(body)}\n`, 'utf8')]);
 }
 
 /** The body text of a checkpoint file whose trailer matches, or what is wrong with it. */
 export function decodeCheckpointFile(bytes: Uint8Array): { readonly body: string } | DocumentIssue {
   const buf = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   if (buf.length === 0) return { problem: 'truncated', reason: 'the file is empty' };
-  const at = buf.lastIndexOf(TRAILER);
+  const at = buf.lastIndexOf(CHECKPOINT_TRAILER);
   if (at < 0) return { problem: 'truncated', reason: 'no checksum line at the end: the file is cut short or is not a checkpoint' };
-  const trailer = buf.subarray(at + TRAILER.length).toString('latin1');
+  const trailer = buf.subarray(at + CHECKPOINT_TRAILER.length).toString('latin1');
   if (!new RegExp(`^[0-9a-f]{${HEX_LENGTH}}\\n$`).test(trailer)) {
     return { problem: 'truncated', reason: 'the checksum line is incomplete: the file is cut short' };
   }

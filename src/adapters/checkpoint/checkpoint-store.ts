@@ -66,6 +66,8 @@ export interface CheckpointStore {
    * carries on estimating.
    */
   save(doc: CheckpointDocument): Promise<void>;
+  /** Like save, for file bytes already encoded (by encodeCheckpointInSlices, say). */
+  saveEncoded(bytes: Uint8Array): Promise<void>;
   /** Reads the checkpoint; never rejects (see LoadResult and the file comment). */
   load(): Promise<LoadResult>;
   /** Resolves once every save requested so far has finished (succeeded or failed). */
@@ -160,6 +162,12 @@ export function createCheckpointStore(options: CheckpointStoreOptions): Checkpoi
     return { kind: 'ok', doc };
   }
 
+  const saveEncoded = (bytes: Uint8Array): Promise<void> => {
+    const run = queue.then(() => writeAtomically(bytes));
+    queue = run.catch(() => undefined);
+    return run;
+  };
+
   return {
     path,
     save(doc) {
@@ -170,10 +178,9 @@ export function createCheckpointStore(options: CheckpointStoreOptions): Checkpoi
       } catch (e) {
         return Promise.reject(e);
       }
-      const run = queue.then(() => writeAtomically(bytes));
-      queue = run.catch(() => undefined);
-      return run;
+      return saveEncoded(bytes);
     },
+    saveEncoded,
     load,
     idle: () => queue,
   };
