@@ -62,8 +62,10 @@ describe('dashboard stream handling', () => {
     await expect.poll(() => page().locator('#connection').getAttribute('data-state'), POLL).toBe('live');
     sendTankSeconds(T0);
     await expect.poll(chartNames, POLL).toContain('pressure readings');
-    expect(await page().locator('.chart-card[data-chart="level"] .chart-note').innerText()).toContain('level readings');
-    expect(await page().locator('#readings-note').innerText()).toContain('arrive live');
+    // Each reading is its own WebSocket frame and the dashboard redraws on animation frames, so
+    // the level chart's note may follow the pressure chart by a redraw: wait for it too.
+    await expect.poll(() => page().locator('.chart-card[data-chart="level"] .chart-note').innerText(), POLL).toContain('level readings');
+    await expect.poll(() => page().locator('#readings-note').innerText(), POLL).toContain('arrive live');
     await watched!.screenshot('readings');
   }, 30_000);
 
